@@ -1,0 +1,331 @@
+"""One spot, one year: from a validated site spec to every metric, for each source and all together.
+
+The same public functions serve the command line, the dashboard and the report.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from .cautions import Caution, cautions_for
+from .conditioning import condition
+from .context import SpotContext
+from .demand import demand_energy_j, mean_power_w
+from .kernel import KernelResult, StoreArrays, simulate
+from .metrics import (
+    J_PER_WH,
+    autonomy_days,
+    dark_hours,
+    deficit_day_mask,
+    first_wake_hours,
+    longest_outage_hours,
+    monthly_energy_wh,
+    monthly_margin,
+    verdict,
+    worst_month,
+)
+from .schedule import parse_date
+from .site import SiteSpec
+from .sources import SourceOutput, source_output
+from .store import (
+    BackupCellSpec,
+    RechargeableCellSpec,
+    backup_life_years,
+    charge_allowed,
+    esr_sag_warning,
+    store_levels,
+)
+from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, hour_of_date
+from .weather import WeatherMeta, load_weather_year
+
+COMBINED_ID = "all-sources"
+LITHIUM = ("li-ion", "lifepo4", "thin-film-solid-state")
+
+
+@dataclass
+class Harvest:
+    """Conditioned harvest of one case (a source, or all together) [W] per hour."""
+
+    id: str
+    kind: str
+    label: str
+    running_w: np.ndarray
+    cold_w: np.ndarray
+    quiescent_w: float
+    cold_start_until_v: float
+    terminal: SourceOutput | None = None
+
+
+@dataclass
+class Prepared:
+    """Everything the kernel needs for a spot, computed once."""
+
+    spec: SiteSpec
+    context: SpotContext
+    weather_meta: WeatherMeta
+    demand_j: np.ndarray
+    harvests: list[Harvest]
+    charge_allowed: np.ndarray
+
+
+@dataclass
+class CaseResult:
+    """The year of one case. Hourly arrays cover the steady-state calendar year."""
+
+    id: str
+    kind: str
+    label: str
+    into_store_w: np.ndarray
+    annual_energy_wh: float
+    monthly_energy_wh: np.ndarray
+    monthly_margin: np.ndarray
+    deficit_days: int
+    deficit_days_mask: np.ndarray
+    install_hour: int
+    first_wake_hours: float
+    longest_outage_hours: int
+    lowest_soc_pct: float
+    autonomy_days: float
+    backup_draw_wh_per_year: float
+    backup_life_years: float
+    verdict: str
+    stored_energy_j: np.ndarray
+    node_on: np.ndarray
+    unmet_j: np.ndarray
+    totals_j: dict[str, float]
+    terminal: SourceOutput | None = None
+
+    def to_json(self) -> dict[str, Any]:
+        """The per-source record of the ``assess --json`` contract (plus extra keys after it)."""
+        fw = self.first_wake_hours
+        return {
+            "id": self.id,
+            "kind": self.kind,
+            "annual_energy_wh": round(self.annual_energy_wh, 6),
+            "monthly_energy_wh": [round(float(v), 6) for v in self.monthly_energy_wh],
+            "deficit_days": int(self.deficit_days),
+            "first_wake_hours": None if not np.isfinite(fw) else round(float(fw), 3),
+            "longest_outage_hours": int(self.longest_outage_hours),
+            "monthly_margin": [round(float(v), 6) for v in self.monthly_margin],
+            "verdict": self.verdict,
+            "lowest_soc_pct": round(self.lowest_soc_pct, 3),
+            "autonomy_days": _finite(self.autonomy_days),
+            "backup_life_years": _finite(self.backup_life_years),
+        }
+
+
+def _finite(x: float) -> float | None:
+    return round(float(x), 4) if np.isfinite(x) else None
+
+
+@dataclass
+class Assessment:
+    """The result of :func:`assess`."""
+
+    prepared: Prepared
+    sources: list[CaseResult]
+    combined: CaseResult
+    usable_energy_j: float
+    backup: BackupCellSpec
+    backup_is_assumed: bool
+    backup_only_life_years: float
+    warnings: list[str] = field(default_factory=list)
+    cautions: list[Caution] = field(default_factory=list)
+
+    @property
+    def spec(self) -> SiteSpec:
+        return self.prepared.spec
+
+    @property
+    def cases(self) -> list[CaseResult]:
+        return [*self.sources, self.combined]
+
+    @property
+    def mean_power_uw(self) -> float:
+        return float(self.prepared.demand_j.mean() / SECONDS_PER_HOUR * 1e6)
+
+    def to_json(self) -> dict[str, Any]:
+        """The stable ``assess --json`` document."""
+        spot = self.spec.spot
+        return {
+            "spot": {"name": spot.name, "latitude": spot.latitude_deg, "longitude": spot.longitude_deg},
+            "demand": {"mean_power_uw": round(self.mean_power_uw, 6),
+                       "annual_energy_wh": round(float(self.prepared.demand_j.sum() / J_PER_WH), 6)},
+            "sources": [c.to_json() for c in self.sources],
+            "combined": self.combined.to_json(),
+            "store": {"usable_energy_j": round(self.usable_energy_j, 6)},
+            "backup": {"cell": self.backup.cell, "assumed": self.backup_is_assumed,
+                       "life_without_harvest_years": _finite(self.backup_only_life_years)},
+            "warnings": list(self.warnings),
+            "cautions": [c.title for c in self.cautions],
+        }
+
+    def hourly_frame(self) -> pd.DataFrame:
+        """Hourly series of the steady-state year: demand, and per case power in, stored energy, state."""
+        index = self.prepared.context.index
+        cols: dict[str, np.ndarray] = {"demand_w": self.prepared.demand_j / SECONDS_PER_HOUR}
+        for case in self.cases:
+            cols[f"{case.id}.into_store_w"] = case.into_store_w
+            cols[f"{case.id}.stored_energy_j"] = case.stored_energy_j
+            cols[f"{case.id}.node_on"] = case.node_on.astype(int)
+            cols[f"{case.id}.unmet_j"] = case.unmet_j
+        frame = pd.DataFrame(cols, index=index)
+        frame.index.name = "time_local_standard"
+        return frame
+
+
+def build_context(spec: SiteSpec) -> tuple[SpotContext, WeatherMeta]:
+    """Load the weather year and make the spot's context."""
+    spot = spec.spot
+    weather, meta = load_weather_year(
+        spec.weather, latitude_deg=spot.latitude_deg, longitude_deg=spot.longitude_deg,
+        altitude_m=spot.altitude_m, utc_offset_h=spot.utc_offset_h, base_dir=spec.base_dir)
+    ctx = SpotContext(weather=weather, latitude_deg=spot.latitude_deg, longitude_deg=spot.longitude_deg,
+                      altitude_m=spot.altitude_m, utc_offset_h=meta.utc_offset_h,
+                      indoor_air_c=spot.indoor_air_c, indoors=spot.indoors, base_dir=spec.base_dir)
+    return ctx, meta
+
+
+def prepare(spec: SiteSpec, context: tuple[SpotContext, WeatherMeta] | None = None) -> Prepared:
+    """Weather, demand and the conditioned harvest of every source (no simulation yet)."""
+    ctx, meta = context if context is not None else build_context(spec)
+    store_v = spec.store.representative_v
+    harvests = []
+    for src in spec.source:
+        out = source_output(src, ctx)
+        cond = condition(src.conditioning, out.power_w, out.voltage_v, store_v)
+        harvests.append(Harvest(src.id, src.kind, src.label or src.id, cond.running_w, cond.cold_w,
+                                cond.quiescent_w, src.conditioning.cold_start_until_v, out))
+    allowed = charge_allowed(spec.store, ctx.air_temp_c)
+    return Prepared(spec, ctx, meta, demand_energy_j(spec.node), harvests, allowed)
+
+
+def combine(harvests: list[Harvest]) -> Harvest:
+    """All sources charging one store. Cold start ends when the last converter's threshold is met."""
+    return Harvest(
+        COMBINED_ID, "combined", "all sources together",
+        np.sum([h.running_w for h in harvests], axis=0), np.sum([h.cold_w for h in harvests], axis=0),
+        float(sum(h.quiescent_w for h in harvests)), max(h.cold_start_until_v for h in harvests))
+
+
+def install_hour(spec: SiteSpec, harvest: Harvest, demand_j: np.ndarray) -> int:
+    """First hour of the installation date: the site's, or the first day of the case's worst month."""
+    if spec.run.install_date:
+        return hour_of_date(*parse_date(spec.run.install_date))
+    return hour_of_date(worst_month(harvest.running_w, demand_j), 1)
+
+
+def _two_years(x: np.ndarray, start: int) -> np.ndarray:
+    """Two years of an hourly series starting at hour ``start`` (wrapping round the year)."""
+    return np.concatenate([x[start:], x, x[:start]])
+
+
+def run_cases(prep: Prepared, harvests: list[Harvest]) -> tuple[KernelResult, list[int]]:
+    """One kernel call for every case in three runs each: steady (warm-up year, then the counted
+    year), installation (empty store at the install hour, two years on) and backup (never off)."""
+    demand = prep.demand_j
+    n = len(harvests)
+    starts = [install_hour(prep.spec, h, demand) for h in harvests]
+    steady = [np.tile(h.running_w, 2) for h in harvests]
+    steady_cold = [np.tile(h.cold_w, 2) for h in harvests]
+    inst = [_two_years(h.running_w, s) for h, s in zip(harvests, starts, strict=True)]
+    inst_cold = [_two_years(h.cold_w, s) for h, s in zip(harvests, starts, strict=True)]
+    run = np.array(steady + inst + steady) * SECONDS_PER_HOUR
+    cold = np.array(steady_cold + inst_cold + steady_cold) * SECONDS_PER_HOUR
+    dem = np.array([np.tile(demand, 2)] * n + [_two_years(demand, s) for s in starts] + [np.tile(demand, 2)] * n)
+    allow = np.array([np.tile(prep.charge_allowed, 2)] * n
+                     + [_two_years(prep.charge_allowed, s) for s in starts]
+                     + [np.tile(prep.charge_allowed, 2)] * n)
+    levels = [store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v,
+                           quiescent_w=h.quiescent_w) for h in harvests] * 3
+    result = simulate(run, dem, StoreArrays.stack(levels), cold_harvest_j=cold, charge_allowed=allow,
+                      always_on=np.repeat([False, False, True], n), min_from=HOURS_PER_YEAR, hourly=True)
+    return result, starts
+
+
+def assess(spec: SiteSpec, context: tuple[SpotContext, WeatherMeta] | None = None) -> Assessment:
+    """Simulate the spot's year for each source alone and for all together, and judge each."""
+    prep = prepare(spec, context)
+    return assess_prepared(prep)
+
+
+def assess_prepared(prep: Prepared) -> Assessment:
+    """:func:`assess` after :func:`prepare` (the dashboard re-runs from here when only the node or
+    store changes)."""
+    spec = prep.spec
+    harvests = [*prep.harvests, combine(prep.harvests)]
+    n = len(harvests)
+    res, starts = run_cases(prep, harvests)
+    year = slice(HOURS_PER_YEAR, 2 * HOURS_PER_YEAR)
+    demand = prep.demand_j
+    backup = spec.store.backup or BackupCellSpec()
+    usable = spec.store.usable_energy_j
+    levels = [store_levels(spec.store, cold_start_until_v=h.cold_start_until_v, quiescent_w=h.quiescent_w)
+              for h in harvests]
+    mean_w = mean_power_w(spec.node)
+    cases = []
+    for k, h in enumerate(harvests):
+        i_inst, i_back = n + k, 2 * n + k
+        lv = levels[k]
+        mid = 0.5 * (lv.max_j + lv.cutoff_j)
+        leak_w = (lv.leak_fraction_per_h * mid + lv.leak_sqrt_j_per_h * np.sqrt(mid)
+                  + lv.leak_const_j_per_h) / SECONDS_PER_HOUR
+        short = dark_hours(res.on[k, year], res.short[k, year])
+        draw_j = float(res.unmet_j[i_back, year].sum())
+        fw = float(first_wake_hours(res.on[i_inst])[()])
+        span = max(lv.max_j - lv.cutoff_j, 1e-30)
+        dmask = deficit_day_mask(short)
+        cases.append(CaseResult(
+            id=h.id, kind=h.kind, label=h.label, into_store_w=h.running_w,
+            annual_energy_wh=float(h.running_w.sum()), monthly_energy_wh=monthly_energy_wh(h.running_w),
+            monthly_margin=monthly_margin(h.running_w, demand), deficit_days=int(dmask.sum()),
+            deficit_days_mask=dmask, install_hour=starts[k], first_wake_hours=fw,
+            longest_outage_hours=int(longest_outage_hours(res.on[i_inst])[()]),
+            lowest_soc_pct=float(np.clip((res.min_energy_j[k] - lv.cutoff_j) / span, 0, 1) * 100),
+            autonomy_days=autonomy_days(usable, mean_w, leak_w),
+            backup_draw_wh_per_year=draw_j / J_PER_WH,
+            backup_life_years=float(backup_life_years(backup, draw_j)[()]),
+            verdict=verdict(int(dmask.sum()), fw),
+            stored_energy_j=res.energy_j[k, year], node_on=res.on[k, year], unmet_j=res.unmet_j[k, year],
+            totals_j={key: float(v[k]) for key, v in res.totals.items()}, terminal=h.terminal,
+        ))
+    warnings = list(prep.weather_meta.notes)
+    for h in prep.harvests:
+        if h.terminal is not None:
+            warnings.extend(f"{h.id}: {note}" for note in h.terminal.notes)
+    sag = esr_sag_warning(spec.store, spec.node.largest_task_current_ma, spec.node.supply_v,
+                          spec.node.regulator_efficiency, spec.node.regulator_min_input_v)
+    if sag:
+        warnings.append(sag)
+    return Assessment(
+        prepared=prep, sources=cases[:-1], combined=cases[-1], usable_energy_j=usable, backup=backup,
+        backup_is_assumed=spec.store.backup is None,
+        backup_only_life_years=float(backup_life_years(backup, demand.sum())[()]),
+        warnings=warnings, cautions=cautions_for(caution_keys(spec)),
+    )
+
+
+def caution_keys(spec: SiteSpec) -> set[str]:
+    """Which cautions apply: from the fitted sources, the store, the spot's height and zone."""
+    keys: set[str] = set()
+    for src in spec.source:
+        keys.update(type(src).cautions)
+    # Height decides work at height (common practice: fall protection from about 2 m).
+    keys.discard("work_at_height")
+    if spec.spot.mounting_height_m >= 2.0:
+        keys.add("work_at_height")
+    store = spec.store
+    if isinstance(store, RechargeableCellSpec) and store.chemistry in LITHIUM:
+        keys.add("lithium_cell")
+    if store.backup is not None and store.backup.cell.startswith("lithium"):
+        keys.add("lithium_cell")
+    if spec.spot.hazardous_area:
+        keys.add("explosive_atmosphere")
+    return keys
+
+
+

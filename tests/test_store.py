@@ -1,0 +1,96 @@
+"""Stores: usable energy, leakage, charge window, ESR sag, backup life."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+from pydantic import ValidationError
+
+from siteharvest.store import (
+    BackupCellSpec,
+    RechargeableCellSpec,
+    SupercapacitorSpec,
+    backup_life_years,
+    charge_allowed,
+    esr_sag_warning,
+    store_levels,
+)
+
+
+@pytest.mark.parametrize(("cap_f", "vmax", "vcut", "energy_j"), [
+    # E = C (Vmax^2 - Vmin^2) / 2, values computed in references.md section 5.1 [C]
+    (1.0, 5.0, 2.0, 10.500),
+    (0.1, 5.5, 2.2, 1.271),
+    (1.0, 2.7, 1.35, 2.734),
+    (10.0, 2.7, 1.0, 31.45),
+])
+def test_supercap_usable_energy(cap_f, vmax, vcut, energy_j):
+    spec = SupercapacitorSpec(capacitance_f=cap_f, max_v=vmax, cutoff_v=vcut, turn_on_v=vcut)
+    assert spec.usable_energy_j == pytest.approx(energy_j, abs=1e-3 if energy_j < 10 else 1e-2)
+    lv = store_levels(spec)
+    assert lv.max_j - lv.cutoff_j == pytest.approx(spec.usable_energy_j)
+
+
+def test_supercap_leakage_cost_per_day():
+    """1 uA at 3 V costs 0.259 J/day (references.md 5.1 [C]): the sqrt law at E = C V^2 / 2."""
+    spec = SupercapacitorSpec(capacitance_f=1.0, max_v=5.0, cutoff_v=2.0, turn_on_v=3.0, leakage_ua=1.0)
+    lv = store_levels(spec)
+    e = 0.5 * 1.0 * 3.0**2
+    assert lv.leak_sqrt_j_per_h * math.sqrt(e) * 24 == pytest.approx(0.2592, rel=1e-3)
+
+
+def test_cell_energy_is_capacity_times_nominal_voltage():
+    """Cell energy = capacity x nominal voltage: 1 Ah at 3.6 V = 12 960 J (references.md 5.3 [C])."""
+    cell = RechargeableCellSpec(chemistry="li-ion", capacity_mah=1000, nominal_v=3.6)
+    assert cell.usable_energy_j == pytest.approx(12960.0)
+    backup = BackupCellSpec(capacity_mah=2600, nominal_v=3.6)
+    assert backup.energy_j == pytest.approx(33_696.0)  # 2.6 Ah x 3.6 V = 9.36 Wh = 33.7 kJ [C]
+
+
+def test_lithium_cell_does_not_charge_below_freezing():
+    """No charging below 0 degC for Li-ion (lithium plating; JEITA guideline, from memory)."""
+    cell = RechargeableCellSpec(chemistry="li-ion")
+    allowed = charge_allowed(cell, np.array([-5.0, 0.0, 20.0, 50.0]))
+    assert allowed.tolist() == [False, True, True, False]
+    cap = SupercapacitorSpec()
+    assert charge_allowed(cap, np.array([-30.0, 60.0])).all()
+
+
+def test_presets_are_editable_and_validated():
+    cell = RechargeableCellSpec(chemistry="lifepo4", self_discharge_pct_per_month=1.0)
+    assert cell.nominal_v == 3.2 and cell.self_discharge_pct_per_month == 1.0
+    with pytest.raises(ValidationError, match="chemistry must be one of"):
+        RechargeableCellSpec(chemistry="unobtainium")
+    with pytest.raises(ValidationError, match="turn_on_v"):
+        SupercapacitorSpec(max_v=5, cutoff_v=2.2, turn_on_v=6)
+    with pytest.raises(ValidationError):
+        SupercapacitorSpec(capacitance_f=-1)
+
+
+def test_esr_sag_warning():
+    """Sag = I R with I = I_task V_rail / (V_cut eta); 20 mA at 3 V from 2.2 V at 90 %: 30.3 mA."""
+    cap = SupercapacitorSpec(capacitance_f=0.1, max_v=5.0, cutoff_v=2.2, turn_on_v=3.0, esr_ohm=20.0)
+    msg = esr_sag_warning(cap, 20.0, 3.0, 0.9, 1.8)
+    assert msg is not None and "0.61 V" in msg and "2.41 V" in msg
+    low = SupercapacitorSpec(capacitance_f=0.1, max_v=5.0, cutoff_v=2.2, turn_on_v=3.0, esr_ohm=0.1)
+    assert esr_sag_warning(low, 20.0, 3.0, 0.9, 1.8) is None
+
+
+def test_backup_life():
+    """Life = Q / (D + s Q): 33.7 kJ, 1 %/yr, 20 uW continuous (630.7 J/yr) -> 34.8 yr; capped at 20."""
+    cell = BackupCellSpec(capacity_mah=2600, nominal_v=3.6, self_discharge_pct_per_year=1.0,
+                          shelf_life_years=50)
+    draw = 20e-6 * 8760 * 3600
+    assert float(backup_life_years(cell, draw)) == pytest.approx(34.82, abs=0.01)
+    assert float(backup_life_years(cell.model_copy(update={"shelf_life_years": 20}), draw)) == 20
+
+
+@given(st.floats(0, 1e6), st.floats(0, 1e6))
+def test_backup_life_falls_with_draw(d1, d2):
+    cell = BackupCellSpec()
+    lo, hi = sorted((d1, d2))
+    assert backup_life_years(cell, hi) <= backup_life_years(cell, lo)
