@@ -8,7 +8,9 @@ Arrays are shaped (configurations, hours). Each hour, for every configuration:
    unmet and the node switches off (undervoltage lockout);
 3. the surplus harvest charges the store, scaled by the charge efficiency, where charging is
    allowed (temperature window), up to full; the rest is spilled;
-4. leakage ``a*e + b*sqrt(e) + c`` is taken from the store;
+4. leakage ``a*e + b*sqrt(e) + c`` is taken from the store, where ``c`` (the converter's
+   quiescent draw) applies only once the store is past its cold-start level: while cold-starting
+   the converter runs from its input;
 5. a node that is off switches on once the store reaches its turn-on level.
 
 Configurations flagged ``always_on`` never switch off: their unmet energy is what a backup cell
@@ -106,7 +108,9 @@ def _run(h_run, h_cold, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_
             if stored < 0.0:
                 stored = 0.0
             e += stored
-            leak = leak_a[k] * e + leak_c[k]
+            leak = leak_a[k] * e
+            if e >= cold_lvl[k]:
+                leak += leak_c[k]
             if leak_b[k] > 0.0:
                 leak += leak_b[k] * np.sqrt(e)
             if leak > e:

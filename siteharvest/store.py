@@ -187,7 +187,8 @@ class StoreLevels:
 
 def store_levels(store: SupercapacitorSpec | RechargeableCellSpec, *, cold_start_until_v: float = 0.0,
                  quiescent_w: float = 0.0) -> StoreLevels:
-    """Turn a store spec into kernel levels; the conditioning's quiescent draw becomes constant leakage."""
+    """Turn a store spec into kernel levels; the conditioning's quiescent draw becomes constant leakage
+    (applied by the kernel once the store is past the cold-start level)."""
     const = quiescent_w * SECONDS_PER_HOUR
     if isinstance(store, SupercapacitorSpec):
         cap = store.capacitance_f

@@ -29,7 +29,7 @@ def plain_loop(harvest, cold, demand, allowed, *, full, cut, turn_on, cold_lvl, 
         spare = h - direct
         stored = max(min(spare * eff if allowed[t] else 0.0, full - e), 0.0)
         e += stored
-        leak = min(a * e + b * math.sqrt(e) + c, e)
+        leak = min(a * e + b * math.sqrt(e) + (c if e >= cold_lvl else 0.0), e)
         e -= leak
         rec["on"].append(on)
         rec["e"].append(e)
