@@ -1,4 +1,4 @@
-"""Command line: ``siteharvest assess | schema | serve``.
+"""Command line: ``siteharvest assess | size | schema | serve``.
 
 Bad input prints one line naming the file, the field and what was expected, and exits with 2.
 """
@@ -10,6 +10,8 @@ import json
 import sys
 from collections.abc import Sequence
 from pathlib import Path
+
+import numpy as np
 
 from .errors import SiteInputError
 
@@ -73,6 +75,80 @@ def cmd_assess(args: argparse.Namespace) -> int:
     return 0
 
 
+def format_sizing(maps, interval, risk) -> str:
+    """Plain-text summary of the sizing study."""
+    lines = []
+
+    def q(value: float, unit: str) -> str:
+        return f"{value:.3g}" if unit in ("-", "") else f"{value:.3g} {unit}"
+
+    for m in maps:
+        i0 = int(np.argmin(np.abs(m.harvester_sizes - m.harvester_drawn)))
+        j0 = int(np.argmin(np.abs(m.store_sizes - m.store_drawn)))
+        lines.append(f"{m.source_id} ({m.kind}): as drawn {m.harvester_field} "
+                     f"{q(m.harvester_drawn, m.harvester_unit)}, "
+                     f"{m.store_field} {q(m.store_drawn, m.store_unit)}: {int(m.deficit_days[i0, j0])} deficit days")
+        if m.pick is None:
+            lines.append(f"  no size in the map meets <= {m.target_deficit_days} deficit days "
+                         f"({m.harvester_field} up to {m.harvester_sizes.max():g} {m.harvester_unit}, "
+                         f"{m.store_field} up to {m.store_sizes.max():g} {m.store_unit})")
+        else:
+            i, j = m.pick
+            edge = " (the smallest tried: smaller may pass too)" if m.pick_at_edge else ""
+            lines.append(f"  smallest that meets <= {m.target_deficit_days} deficit days: {m.harvester_field} "
+                         f"{q(m.harvester_sizes[i], m.harvester_unit)} with {m.store_field} "
+                         f"{q(m.store_sizes[j], m.store_unit)}{edge}, first wake "
+                         + (f"{m.first_wake_hours[i, j]:,.0f} h" if np.isfinite(m.first_wake_hours[i, j])
+                            else "later than 90 days"))
+            front = "; ".join(f"{q(m.harvester_sizes[a], m.harvester_unit)} + {q(m.store_sizes[b], m.store_unit)}"
+                              for a, b in m.frontier[:8])
+            lines.append(f"  smallest combinations: {front}{' ...' if len(m.frontier) > 8 else ''}")
+        if risk is not None and m.source_id in risk.deficit_days:
+            r = risk.summary(m.source_id)
+            lines.append(f"  weather risk over {risk.years} years: deficit days P50 {r['p50']:.0f}, "
+                         f"P90 {r['p90']:.0f}, "
+                         f"P99 {r['p99']:.0f}; years with any deficit day {r['chance_any']:.0%}")
+        lines.append("")
+    if risk is not None and "all-sources" in risk.deficit_days and len(maps) != 1:
+        r = risk.summary("all-sources")
+        lines.append(f"all sources together, weather risk: P50 {r['p50']:.0f}, P90 {r['p90']:.0f}, P99 {r['p99']:.0f}; "
+                     f"years with any deficit day {r['chance_any']:.0%}")
+    if interval is not None:
+        fastest = ("no interval up to a week meets the target" if interval.shortest_every_s is None
+                   else f"every {interval.shortest_every_s:,.1f} s at the most")
+        lines.append(f"reporting with {interval.source_id}: '{interval.task}' "
+                     f"(drawn every {interval.drawn_every_s:g} s): "
+                     f"{fastest}")
+    return "\n".join(lines).rstrip()
+
+
+def cmd_size(args: argparse.Namespace) -> int:
+    from .assess import COMBINED_ID, prepare
+    from .site import load_site
+    from .sizing import report_interval, sizing_map, weather_risk
+
+    spec = load_site(args.site)
+    ids = [s.id for s in spec.source]
+    if args.source and args.source not in ids:
+        raise SiteInputError("one of the site's source ids: " + ", ".join(ids), file=args.site, field="--source",
+                             got=args.source)
+    prep = prepare(spec)
+    chosen = [args.source] if args.source else ids
+    maps = [sizing_map(prep, sid, n_harvester=args.steps, n_store=args.steps, max_deficit_days=args.max_deficit_days)
+            for sid in chosen]
+    interval = report_interval(prep, args.source or COMBINED_ID, max_deficit_days=args.max_deficit_days)
+    risk = None if args.years == 0 else weather_risk(prep, years=args.years, seed=args.seed,
+                                                     outage_rate_per_year=args.outages_per_year,
+                                                     outage_mean_days=args.outage_days)
+    if args.json:
+        print(json.dumps({"sources": [m.to_json() for m in maps],
+                          "report_interval": None if interval is None else interval.to_json(),
+                          "weather_risk": None if risk is None else risk.to_json()}, indent=1))
+    else:
+        print(format_sizing(maps, interval, risk))
+    return 0
+
+
 def cmd_schema(args: argparse.Namespace) -> int:
     from .site import site_schema_text
 
@@ -100,6 +176,20 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print the results as JSON")
     p.add_argument("--hourly", metavar="FILE.csv", help="write the hourly series of the year to a CSV file")
     p.set_defaults(func=cmd_assess)
+    p = sub.add_parser("size", help="what harvester and store sizes meet the target, how often the node can "
+                       "report, and how sure that is over many weather years")
+    p.add_argument("site", help="site file (.toml)")
+    p.add_argument("--source", metavar="ID", help="only this source (default: each)")
+    p.add_argument("--max-deficit-days", type=int, default=None, metavar="N",
+                   help="target: at most N deficit days a year (default: the site's run.target_deficit_days)")
+    p.add_argument("--steps", type=int, default=40, help="sizes tried along each axis (default 40)")
+    p.add_argument("--years", type=int, default=500, help="resampled weather years (0 to skip; default 500)")
+    p.add_argument("--seed", type=int, default=1, help="seed of the resampling (default 1)")
+    p.add_argument("--outages-per-year", type=float, default=0.0,
+                   help="unplanned process/machine outages per year for heat and vibration sources")
+    p.add_argument("--outage-days", type=float, default=3.0, help="mean length of an outage [days]")
+    p.add_argument("--json", action="store_true", help="print the results as JSON")
+    p.set_defaults(func=cmd_size)
     p = sub.add_parser("schema", help="print the JSON Schema of the site file")
     p.set_defaults(func=cmd_schema)
     p = sub.add_parser("serve", help="start the dashboard (default: the bundled sample spots)")

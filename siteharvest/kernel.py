@@ -14,7 +14,7 @@ Arrays are shaped (configurations, hours). Each hour, for every configuration:
 5. a node that is off switches on once the store reaches its turn-on level.
 
 Configurations flagged ``always_on`` never switch off: their unmet energy is what a backup cell
-would have to supply. The loop is compiled (numba) and runs over configurations and hours; the
+would have to supply. The loop is compiled (numba), configurations spread over the CPU cores; the
 arrays of all configurations go in and come out together, so a sizing sweep or a set of
 weather years is one call.
 Energy balance, per configuration and exactly (to rounding):
@@ -27,7 +27,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from numba import njit
+from numba import njit, prange
 
 UNMET_TOLERANCE_J = 1e-12
 
@@ -69,65 +69,85 @@ class KernelResult:
     energy_j: np.ndarray | None = None
     served_j: np.ndarray | None = None
     unmet_j: np.ndarray | None = None
+    dark_days: np.ndarray | None = None
 
 
 _TOTAL_KEYS = ("harvest", "direct", "drawn", "unmet", "to_store", "charge_loss", "spilled", "leaked")
 
 
-def _grid(x: np.ndarray | float | bool, n_conf: int, n_hours: int, dtype: type = float) -> np.ndarray:
-    """(C, H) view of an input given as (H,), (1, H) or (C, H)."""
+def _table(x: np.ndarray | float | bool, n_hours: int, dtype: type = float) -> np.ndarray:
+    """A C-contiguous, writable (R, H) array from (H,), (R, H) or a scalar (one compiled variant)."""
     arr = np.asarray(x, dtype=dtype)
+    if arr.ndim == 0:
+        arr = np.full(n_hours, arr, dtype=dtype)
     if arr.ndim == 1:
         arr = arr[None, :]
     if arr.shape[-1] != n_hours:
         raise ValueError(f"expected {n_hours} hours, got {arr.shape[-1]}")
-    return np.broadcast_to(arr, (n_conf, n_hours))
+    return np.require(arr, dtype=dtype, requirements=["C", "W"])
 
 
-@njit(cache=True, nogil=True)
-def _run(h_run, h_cold, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
-         leak_a, leak_b, leak_c, min_from, hourly, on_rec, short_rec, e_min, e_end, totals,
-         e_rec, served_rec, unmet_rec):  # pragma: no cover - compiled
-    n_conf, n_hours = h_run.shape
-    for k in range(n_conf):
+@njit(cache=True, nogil=True, parallel=True)
+def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
+         leak_a, leak_b, leak_c, min_from, hourly, stop_when_on, daily_only, on_rec, short_rec, dark_day_rec,
+         e_min, e_end, totals, e_rec, served_rec, unmet_rec):  # pragma: no cover - compiled
+    n_conf = rows.shape[0]
+    n_hours = h_run.shape[1]
+    shared_dem = dem.shape[0] == 1
+    shared_allowed = allowed.shape[0] == 1
+    for k in prange(n_conf):
+        r = rows[k]
+        kd = k - k if shared_dem else k  # same integer type as k
+        ka = k - k if shared_allowed else k
+        # this configuration's constants, read once
+        c_cut, c_full, c_on, c_cold = cut[k], full[k], turn_on[k], cold_lvl[k]
+        c_eff, c_a, c_b, c_c, c_forced = eff[k], leak_a[k], leak_b[k], leak_c[k], forced[k]
         e = e0[k]
-        on = on0[k] or forced[k]
+        on = on0[k] or c_forced
         lowest = np.inf
         t_h = t_dir = t_draw = t_unmet = t_store = t_loss = t_spill = t_leak = 0.0
         for t in range(n_hours):
-            h = h_cold[k, t] if e < cold_lvl[k] else h_run[k, t]
-            d = dem[k, t] if on else 0.0
+            h = h_cold[r, t] if e < c_cold else h_run[r, t]
+            d = dem[kd, t] if on else 0.0
             direct = min(h, d)
             need = d - direct
-            draw = min(need, max(e - cut[k], 0.0))
+            draw = min(need, max(e - c_cut, 0.0))
             unmet = need - draw
             e -= draw
             surplus = h - direct
-            offer = surplus * eff[k] if allowed[k, t] else 0.0
-            stored = min(offer, full[k] - e)
+            offer = surplus * c_eff if allowed[ka, t] else 0.0
+            stored = min(offer, c_full - e)
             if stored < 0.0:
                 stored = 0.0
             e += stored
-            leak = leak_a[k] * e
-            if e >= cold_lvl[k]:
-                leak += leak_c[k]
-            if leak_b[k] > 0.0:
-                leak += leak_b[k] * np.sqrt(e)
+            leak = c_a * e
+            if e >= c_cold:
+                leak += c_c
+            if c_b > 0.0:
+                leak += c_b * np.sqrt(e)
             if leak > e:
                 leak = e
             e -= leak
             short = unmet > 1e-12
-            on_rec[k, t] = on
-            short_rec[k, t] = short
+            if daily_only:
+                if short or not on:
+                    dark_day_rec[k, t // 24] = True
+            else:
+                on_rec[k, t] = on
+                short_rec[k, t] = short
+            if stop_when_on and on:
+                on_rec[k, t + 1:] = False
+                short_rec[k, t + 1:] = False
+                break
             if on:
                 on = not short
             else:
-                on = e >= turn_on[k]
-            if forced[k]:
+                on = e >= c_on
+            if c_forced:
                 on = True
             if t >= min_from and e < lowest:
                 lowest = e
-            loss = stored / eff[k] - stored
+            loss = stored / c_eff - stored
             t_h += h
             t_dir += direct
             t_draw += draw
@@ -164,6 +184,9 @@ def simulate(
     always_on: np.ndarray | bool = False,
     min_from: int = 0,
     hourly: bool = False,
+    harvest_rows: np.ndarray | None = None,
+    stop_when_on: bool = False,
+    daily_only: bool = False,
 ) -> KernelResult:
     """Run the hourly energy balance for C configurations over H hours.
 
@@ -187,41 +210,63 @@ def simulate(
         First hour counted in ``min_energy_j`` (e.g. the start of the steady-state year).
     hourly : bool
         Also record hourly stored energy, served and unmet energy.
+    harvest_rows : int array (C,), optional
+        Configuration k takes row ``harvest_rows[k]`` of ``harvest_j`` and ``cold_harvest_j``
+        (shape (R, H)): a sweep over store sizes shares one row per harvester size.
+    stop_when_on : bool
+        Stop each configuration at the first hour its node is on (for first-wake studies); later
+        hours are recorded as off and the totals cover only the hours run.
+    daily_only : bool
+        Record only ``dark_days`` (C, H // 24): days with an hour off or short (for sweeps); ``on``
+        and ``short`` are then empty.
 
     Returns
     -------
     KernelResult
     """
     harvest = np.asarray(harvest_j, dtype=float)
-    n_conf = harvest.shape[0] if harvest.ndim == 2 else store.max_j.shape[0]
     n_hours = harvest.shape[-1]
-    h_run = _grid(harvest, n_conf, n_hours)
-    h_cold = h_run if cold_harvest_j is None else _grid(cold_harvest_j, n_conf, n_hours)
-    dem = _grid(demand_j, n_conf, n_hours)
-    allowed = _grid(True if charge_allowed is None else charge_allowed, n_conf, n_hours, dtype=np.bool_) \
-        if charge_allowed is not None else np.ones((1, 1), dtype=np.bool_)
-    if charge_allowed is None:
-        allowed = np.broadcast_to(allowed, (n_conf, n_hours))
+    if harvest_rows is None:
+        n_conf = harvest.shape[0] if harvest.ndim == 2 else store.max_j.shape[0]
+        rows = np.arange(n_conf) if harvest.ndim == 2 else np.zeros(n_conf, dtype=np.int64)
+    else:
+        rows = np.asarray(harvest_rows)
+        n_conf = rows.shape[0]
+    h_run = _table(harvest, n_hours)
+    h_cold = h_run if cold_harvest_j is None else _table(cold_harvest_j, n_hours)
+    if (rows.size and (rows.min() < 0 or rows.max() >= h_run.shape[0])) or h_cold.shape != h_run.shape:
+        raise ValueError("harvest_rows must index rows of harvest_j (and cold_harvest_j of the same shape)")
+    rows = _table(rows, n_conf, dtype=np.int64)[0]
+    dem = _table(demand_j, n_hours)
+    allowed = _table(True if charge_allowed is None else charge_allowed, n_hours, dtype=np.bool_)
+    for name, arr in (("demand_j", dem), ("charge_allowed", allowed)):
+        if arr.shape[0] not in (1, n_conf):
+            raise ValueError(f"{name} must have 1 or {n_conf} rows, has {arr.shape[0]}")
 
     def per_conf(x: np.ndarray | float | bool, dtype: type = float) -> np.ndarray:
-        return np.ascontiguousarray(np.broadcast_to(np.asarray(x, dtype=dtype), (n_conf,)))
+        return np.require(np.broadcast_to(np.asarray(x, dtype=dtype), (n_conf,)), dtype=dtype,
+                          requirements=["C", "W"]).copy()
 
-    on_rec = np.empty((n_conf, n_hours), dtype=np.bool_)
-    short_rec = np.empty((n_conf, n_hours), dtype=np.bool_)
+    rec_shape = (n_conf, 0) if daily_only else (n_conf, n_hours)
+    on_rec = np.empty(rec_shape, dtype=np.bool_)
+    short_rec = np.empty(rec_shape, dtype=np.bool_)
+    dark_day_rec = np.zeros((n_conf, n_hours // 24 if daily_only else 0), dtype=np.bool_)
     shape = (n_conf, n_hours) if hourly else (0, 0)
     e_rec, served_rec, unmet_rec = np.empty(shape), np.empty(shape), np.empty(shape)
     e_min, e_end = np.empty(n_conf), np.empty(n_conf)
     totals = np.empty((len(_TOTAL_KEYS), n_conf))
     e0 = per_conf(initial_energy_j)
-    _run(h_run, h_cold, dem, allowed, e0, per_conf(initially_on, np.bool_),
+    _run(h_run, h_cold, rows, dem, allowed, e0, per_conf(initially_on, np.bool_),
          per_conf(always_on, np.bool_), per_conf(store.cutoff_j), per_conf(store.max_j),
          per_conf(store.turn_on_j), per_conf(store.cold_start_j), per_conf(store.charge_efficiency),
          per_conf(store.leak_fraction_per_h), per_conf(store.leak_sqrt_j_per_h),
-         per_conf(store.leak_const_j_per_h), int(min_from), bool(hourly), on_rec, short_rec, e_min,
+         per_conf(store.leak_const_j_per_h), int(min_from), bool(hourly), bool(stop_when_on), bool(daily_only),
+         on_rec, short_rec, dark_day_rec, e_min,
          e_end, totals, e_rec, served_rec, unmet_rec)
     tot = dict(zip(_TOTAL_KEYS, totals, strict=True))
     tot["start"] = e0.copy()
-    result = KernelResult(on=on_rec, short=short_rec, min_energy_j=e_min, final_energy_j=e_end, totals=tot)
+    result = KernelResult(on=on_rec, short=short_rec, min_energy_j=e_min, final_energy_j=e_end, totals=tot,
+                          dark_days=dark_day_rec if daily_only else None)
     if hourly:
         result.energy_j, result.served_j, result.unmet_j = e_rec, served_rec, unmet_rec
     return result

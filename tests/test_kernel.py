@@ -141,3 +141,28 @@ def test_charge_blocked_outside_temperature_window():
                    hourly=True)
     np.testing.assert_allclose(res.energy_j[0], [1, 1, 1, 2])
     assert res.totals["spilled"][0] == 2.0
+
+
+def test_shared_harvest_rows_equal_explicit_rows():
+    """Configurations that share a harvest row through harvest_rows give the same result as copies."""
+    rng = np.random.default_rng(3)
+    harvest = rng.exponential(1.0, (2, 200))
+    rows = np.array([0, 1, 1, 0, 1])
+    store = store_of(5, max_j=20, cutoff_j=1, turn_on_j=5, cold_start_j=0.5, leak_fraction_per_h=1e-3,
+                     leak_sqrt_j_per_h=0.01, leak_const_j_per_h=0.0, charge_efficiency=0.9)
+    shared = simulate(harvest, np.full(200, 0.9), store, harvest_rows=rows, hourly=True)
+    copied = simulate(harvest[rows], np.full(200, 0.9), store, hourly=True)
+    np.testing.assert_array_equal(shared.energy_j, copied.energy_j)
+    np.testing.assert_array_equal(shared.on, copied.on)
+
+
+def test_daily_record_matches_hourly_records():
+    rng = np.random.default_rng(9)
+    harvest = rng.exponential(0.5, (4, 24 * 30)) * (rng.random((4, 24 * 30)) > 0.5)
+    store = store_of(4, max_j=8, cutoff_j=1, turn_on_j=3, cold_start_j=0, leak_fraction_per_h=1e-3,
+                     leak_sqrt_j_per_h=0, leak_const_j_per_h=0, charge_efficiency=1)
+    full = simulate(harvest, np.full(24 * 30, 0.4), store)
+    daily = simulate(harvest, np.full(24 * 30, 0.4), store, daily_only=True)
+    expected = dark_hours(full.on, full.short).reshape(4, 30, 24).any(axis=2)
+    np.testing.assert_array_equal(daily.dark_days, expected)
+    assert daily.on.shape == (4, 0)

@@ -506,7 +506,8 @@ def test_load_csv_uses_the_spot_for_what_the_file_omits(tmp_path):
 def test_load_bundled_reads_pvlib_data_in_place():
     frame, meta = load_weather_year(WeatherSpec(bundled=TMY3_NAME), latitude_deg=36.1, longitude_deg=-79.95,
                                     altitude_m=273.0, utc_offset_h=-5.0, base_dir=Path("."))
-    assert len(frame) == HOURS_PER_YEAR and TMY3_NAME in meta.source and [n for n in meta.notes if "hundreds of lux" not in n] == []
+    assert len(frame) == HOURS_PER_YEAR and TMY3_NAME in meta.source
+    assert [n for n in meta.notes if "hundreds of lux" not in n] == []
     with pytest.raises(SiteInputError) as err:
         load_weather_year(WeatherSpec(bundled="ASTMG173.csv"), latitude_deg=0, longitude_deg=0,
                           altitude_m=0, utc_offset_h=0, base_dir=Path("."))

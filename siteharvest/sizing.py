@@ -1,0 +1,430 @@
+"""What does it take, and how sure are we: sizing maps, the fastest sustainable reporting, and
+weather risk. Everything runs through the one kernel, each study as one array of configurations.
+
+- Sizing map: harvester size (each kind's natural knob) against store size, deficit days of a
+  steady-state year in every cell, first wake reported separately; the frontier is the set of
+  passing cells with no passing cell both smaller in harvester and smaller in store (no
+  monotonicity assumed: with turn-on hysteresis a bigger store can add deficit days); the pick is
+  the smallest harvester, then the smallest store, that passes.
+- Report interval: the node's most frequent task made rarer (or more frequent) until the target is
+  just met, by bisection on the interval with one kernel run per step.
+- Weather risk: many years made by resampling whole weeks of the spot's own year within the same
+  calendar month, keeping to weeks whose schedule pattern (lamps, process, machine, transmitter hours
+  and dates off) is the same, so that weather moves and schedules do not. Optional process/machine
+  outages (Poisson count per year, exponential length) for heat and vibration sources.
+
+References
+----------
+IEEE 1562-2021, Recommended Practice for Sizing Stand-Alone Photovoltaic Systems (days of autonomy).
+Egido, M. and Lorenzo, E. (1992). The sizing of stand alone PV-systems: a review and a proposed new
+method. Solar Energy Materials and Solar Cells 26, 51-69.
+Efron, B. and Tibshirani, R.J. (1993). An Introduction to the Bootstrap. Chapman & Hall (block
+resampling of dependent data, ch. 8).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from pydantic import BaseModel
+
+from .assess import COMBINED_ID, Harvest, Prepared, combine
+from .conditioning import condition
+from .demand import demand_energy_j
+from .fields import bounds_of
+from .kernel import StoreArrays, simulate
+from .metrics import dark_hours, deficit_days, first_wake_hours
+from .schedule import WeeklySchedule
+from .sources import source_output
+from .store import SupercapacitorSpec, store_levels
+from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, month_of_hour
+
+# How each kind's size knob acts on the transducer's output: "area" and "count" scale power in
+# proportion (each module has its own contacts and sink); other knobs re-run the yield model.
+LINEAR_KNOBS = {("solar", "area_cm2"), ("indoor_light", "area_cm2"), ("thermoelectric", "modules")}
+# Knobs where a smaller value means more harvester (a transmitter moved closer).
+SMALLER_IS_MORE = {("rf", "distance_m")}
+YEAR = slice(HOURS_PER_YEAR, 2 * HOURS_PER_YEAR)
+# In a sizing map a first wake later than this counts as none (NaN / null): 90 days.
+FIRST_WAKE_HORIZON_H = 90 * 24
+
+
+@dataclass
+class SizingMap:
+    """Deficit days over harvester size x store size for one source (or all together).
+
+    ``harvester_sizes`` run from the least harvester to the most (for a transmitter distance, the
+    farthest first); ``store_sizes`` from the smallest store up. ``first_wake_hours`` is NaN where
+    the node does not wake within 90 days of installation.
+    """
+
+    source_id: str
+    kind: str
+    harvester_field: str
+    harvester_unit: str
+    harvester_sizes: np.ndarray
+    harvester_drawn: float
+    store_field: str
+    store_unit: str
+    store_sizes: np.ndarray
+    store_drawn: float
+    deficit_days: np.ndarray
+    first_wake_hours: np.ndarray
+    target_deficit_days: int
+    frontier: list[tuple[int, int]] = field(default_factory=list)
+    pick: tuple[int, int] | None = None
+    least_harvester_is_limit: bool = False
+
+    @property
+    def pick_at_edge(self) -> bool:
+        """The pick sits on the map's smallest row or column: smaller sizes may pass too."""
+        if self.pick is None:
+            return False
+        i, j = self.pick
+        return j == 0 or (i == 0 and not self.least_harvester_is_limit)
+
+    def to_json(self) -> dict[str, Any]:
+        pick = None
+        if self.pick is not None:
+            i, j = self.pick
+            pick = {self.harvester_field: _round(self.harvester_sizes[i]),
+                    self.store_field: _round(self.store_sizes[j]),
+                    "deficit_days": int(self.deficit_days[i, j]),
+                    "first_wake_hours": _finite(self.first_wake_hours[i, j])}
+        return {
+            "id": self.source_id, "kind": self.kind,
+            "harvester": {"field": self.harvester_field, "unit": self.harvester_unit,
+                          "drawn": self.harvester_drawn, "sizes": [_round(v) for v in self.harvester_sizes]},
+            "store": {"field": self.store_field, "unit": self.store_unit, "drawn": self.store_drawn,
+                      "sizes": [_round(v) for v in self.store_sizes]},
+            "deficit_days": self.deficit_days.astype(int).tolist(),
+            "first_wake_hours": [[_finite(v) for v in row] for row in self.first_wake_hours],
+            "target_deficit_days": self.target_deficit_days,
+            "frontier": [{self.harvester_field: _round(self.harvester_sizes[i]),
+                          self.store_field: _round(self.store_sizes[j]),
+                          "deficit_days": int(self.deficit_days[i, j])} for i, j in self.frontier],
+            "pick": pick,
+        }
+
+
+def _round(x: float) -> float:
+    return float(f"{float(x):.4g}")
+
+
+def _finite(x: float) -> float | None:
+    return round(float(x), 3) if np.isfinite(x) else None
+
+
+def frontier_and_pick(meets: np.ndarray) -> tuple[list[tuple[int, int]], tuple[int, int] | None]:
+    """Pareto-smallest passing cells of a boolean map (rows: harvester, columns: store, both in
+    increasing size), and the pick: the smallest harvester that passes, then its smallest store.
+    No monotonicity is assumed."""
+    cells = [tuple(map(int, c)) for c in np.argwhere(meets)]
+    frontier = [(i, j) for i, j in cells
+                if not any(a <= i and b <= j and (a, b) != (i, j) for a, b in cells)]
+    pick = min(cells) if cells else None
+    return sorted(frontier), pick
+
+
+def _grid(drawn: float, low: float | None, high: float | None, n: int, integer: bool,
+          down: float, up: float) -> np.ndarray:
+    lo = drawn * down if low is None else max(drawn * down, low)
+    hi = drawn * up if high is None else min(drawn * up, high)
+    if integer:
+        return np.unique(np.clip(np.round(np.geomspace(max(lo, 1), max(hi, 1), n)), 1, None)).astype(float)
+    lo = max(lo, 1e-9)
+    values = np.geomspace(lo, max(hi, lo), n)
+    return np.unique(np.append(values, drawn))
+
+
+def harvester_sizes(spec: BaseModel, n: int) -> tuple[np.ndarray, str, str, float]:
+    """Sizes to try for a source's knob, least harvester first; (sizes, field, unit, drawn)."""
+    name = type(spec).size_field
+    b = bounds_of(type(spec), name)
+    drawn = float(getattr(spec, name))
+    integer = isinstance(getattr(spec, name), int)
+    low = b.low if b.low_inclusive or b.low is None else b.low * 1.000001
+    if (spec.kind, name) in SMALLER_IS_MORE:
+        sizes = _grid(drawn, low, b.high, n, integer, 0.125, 4.0)[::-1]
+    else:
+        sizes = _grid(drawn, low, b.high, n, integer, 0.125, 8.0)
+    return sizes, name, b.unit, drawn
+
+
+def store_sizes(store: BaseModel, n: int) -> tuple[np.ndarray, str, str, float]:
+    """Store sizes to try, smallest first; (sizes, field, unit, drawn)."""
+    name = "capacitance_f" if isinstance(store, SupercapacitorSpec) else "capacity_mah"
+    b = bounds_of(type(store), name)
+    drawn = float(getattr(store, name))
+    return _grid(drawn, None, b.high, n, False, 0.125, 16.0), name, b.unit, drawn
+
+
+def resized_store(store: BaseModel, name: str, value: float) -> BaseModel:
+    """The store at another size; a supercapacitor's leakage scales with its capacitance."""
+    update: dict[str, float] = {name: float(value)}
+    if isinstance(store, SupercapacitorSpec):
+        update["leakage_ua"] = store.leakage_ua * value / store.capacitance_f
+    return store.model_copy(update=update)
+
+
+def _harvest_at_sizes(prep: Prepared, index: int, sizes: np.ndarray, name: str) -> Harvest:
+    """Conditioned harvest of source ``index`` at each size: arrays shaped (sizes, 8760)."""
+    spec = prep.spec.source[index]
+    base = prep.harvests[index]
+    drawn = float(getattr(spec, name))
+    if (spec.kind, name) in LINEAR_KNOBS:
+        out = base.terminal if base.terminal is not None else source_output(spec, prep.context)
+        scale = sizes[:, None] / drawn
+        power = out.power_w[None, :] * scale
+        volts = None
+        if out.voltage_v is not None:
+            series = spec.kind == "thermoelectric" and getattr(spec, "wiring", "") == "series"
+            volts = out.voltage_v[None, :] * (scale if series else 1.0)
+    else:
+        outs = [source_output(spec.model_copy(update={name: type(getattr(spec, name))(v)}), prep.context)
+                for v in sizes]
+        power = np.array([o.power_w for o in outs])
+        volts = None if outs[0].voltage_v is None else np.array([o.voltage_v for o in outs])
+        if volts is None or any(o.voltage_v is None for o in outs):
+            volts = None
+    cond = condition(spec.conditioning, power, volts, prep.spec.store.representative_v)
+    return Harvest(spec.id, spec.kind, base.label, cond.running_w, cond.cold_w, cond.quiescent_w,
+                   spec.conditioning.cold_start_until_v)
+
+
+def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store: int = 40,
+               max_deficit_days: int | None = None) -> SizingMap:
+    """Deficit days over a grid of harvester and store sizes for one source, in one kernel call."""
+    ids = [s.id for s in prep.spec.source]
+    if source_id not in ids:
+        raise KeyError(source_id)
+    index = ids.index(source_id)
+    spec = prep.spec.source[index]
+    target = prep.spec.run.target_deficit_days if max_deficit_days is None else max_deficit_days
+    h_sizes, h_name, h_unit, h_drawn = harvester_sizes(spec, n_harvester)
+    s_sizes, s_name, s_unit, s_drawn = store_sizes(prep.spec.store, n_store)
+    harvest = _harvest_at_sizes(prep, index, h_sizes, h_name)
+    n_h, n_s = len(h_sizes), len(s_sizes)
+    stores = [resized_store(prep.spec.store, s_name, v) for v in s_sizes]
+    levels = [store_levels(st, cold_start_until_v=harvest.cold_start_until_v, quiescent_w=harvest.quiescent_w)
+              for st in stores]
+    store_arr = StoreArrays.stack([levels[j] for _ in range(n_h) for j in range(n_s)])
+    rows = np.repeat(np.arange(n_h), n_s)
+    run = np.tile(harvest.running_w, 2) * SECONDS_PER_HOUR
+    cold = np.tile(harvest.cold_w, 2) * SECONDS_PER_HOUR
+    demand = np.tile(prep.demand_j, 2)
+    allowed = np.tile(prep.charge_allowed, 2)
+    steady = simulate(run, demand, store_arr, cold_harvest_j=cold, charge_allowed=allowed,
+                      harvest_rows=rows, min_from=HOURS_PER_YEAR, daily_only=True)
+    dd = steady.dark_days[:, 365:].sum(axis=1).reshape(n_h, n_s)
+    # first wake: empty store at the installation hour, one year on
+    from .assess import install_hour
+
+    start = install_hour(prep.spec, prep.harvests[index], prep.demand_j)
+    order = np.r_[start:HOURS_PER_YEAR, 0:start][:FIRST_WAKE_HORIZON_H]
+    wake = simulate(harvest.running_w[:, order] * SECONDS_PER_HOUR, prep.demand_j[order], store_arr,
+                    cold_harvest_j=harvest.cold_w[:, order] * SECONDS_PER_HOUR,
+                    charge_allowed=prep.charge_allowed[order], harvest_rows=rows, stop_when_on=True)
+    fw = first_wake_hours(wake.on).reshape(n_h, n_s)
+    meets = dd <= target
+    front, pick = frontier_and_pick(meets)
+    b = bounds_of(type(spec), h_name)
+    floor = 1.0 if isinstance(getattr(spec, h_name), int) else b.low
+    at_limit = (spec.kind, h_name) not in SMALLER_IS_MORE and floor is not None and h_sizes[0] <= floor * (1 + 1e-6)
+    return SizingMap(spec.id, spec.kind, h_name, h_unit, h_sizes, h_drawn, s_name, s_unit, s_sizes, s_drawn,
+                     dd, fw, target, front, pick, bool(at_limit))
+
+
+@dataclass
+class ReportInterval:
+    """The most frequent task's interval at which the drawn hardware just meets the target."""
+
+    source_id: str
+    task: str
+    drawn_every_s: float
+    shortest_every_s: float | None
+    deficit_days_at_drawn: int
+
+    def to_json(self) -> dict[str, Any]:
+        return {"id": self.source_id, "task": self.task, "drawn_every_s": self.drawn_every_s,
+                "shortest_every_s": None if self.shortest_every_s is None else round(self.shortest_every_s, 1),
+                "deficit_days_at_drawn": self.deficit_days_at_drawn}
+
+
+def _steady_deficit(prep: Prepared, harvest: Harvest, demand_j: np.ndarray) -> int:
+    lv = store_levels(prep.spec.store, cold_start_until_v=harvest.cold_start_until_v,
+                      quiescent_w=harvest.quiescent_w)
+    res = simulate(np.tile(harvest.running_w, 2)[None, :] * SECONDS_PER_HOUR, np.tile(demand_j, 2),
+                   StoreArrays.stack([lv]), cold_harvest_j=np.tile(harvest.cold_w, 2)[None, :] * SECONDS_PER_HOUR,
+                   charge_allowed=np.tile(prep.charge_allowed, 2), min_from=HOURS_PER_YEAR)
+    return int(deficit_days(dark_hours(res.on[:, YEAR], res.short[:, YEAR]))[0])
+
+
+def report_interval(prep: Prepared, source_id: str | None = None, *, max_deficit_days: int | None = None,
+                    longest_s: float = 7 * 86400.0, tolerance: float = 0.01) -> ReportInterval | None:
+    """Bisection on the most frequent task's period (log scale) for the shortest that meets the
+    target with the drawn harvester and store. ``None`` when the node has no task."""
+    node = prep.spec.node
+    if not node.task:
+        return None
+    target = prep.spec.run.target_deficit_days if max_deficit_days is None else max_deficit_days
+    harvests = {h.id: h for h in prep.harvests}
+    harvest = combine(prep.harvests) if source_id in (None, COMBINED_ID) else harvests[source_id]
+    k = int(np.argmin([t.every_s for t in node.task]))
+    task = node.task[k]
+
+    def deficit(every_s: float) -> int:
+        tasks = list(node.task)
+        tasks[k] = task.model_copy(update={"every_s": float(every_s)})
+        return _steady_deficit(prep, harvest, demand_energy_j(node.model_copy(update={"task": tasks})))
+
+    drawn_dd = deficit(task.every_s)
+    lo = max(task.duration_ms / 1000.0 * 1.001, 1.0)
+    hi = max(longest_s, task.every_s)
+    if deficit(hi) > target:
+        return ReportInterval(harvest.id, task.name, task.every_s, None, drawn_dd)
+    if deficit(lo) <= target:
+        return ReportInterval(harvest.id, task.name, task.every_s, lo, drawn_dd)
+    while hi / lo > 1.0 + tolerance:       # invariant: lo fails, hi passes
+        mid = float(np.sqrt(lo * hi))
+        if deficit(mid) <= target:
+            hi = mid
+        else:
+            lo = mid
+    return ReportInterval(harvest.id, task.name, task.every_s, hi, drawn_dd)
+
+
+def store_for_autonomy_j(daily_demand_j: float, autonomy_days: float, max_depth_of_discharge: float = 1.0,
+                         derating: float = 1.0) -> float:
+    """Store capacity [J] that carries ``autonomy_days`` of demand with no harvest (IEEE 1562 rule):
+    daily demand x days of autonomy / (allowed depth of discharge x temperature/rate derating)."""
+    return daily_demand_j * autonomy_days / (max_depth_of_discharge * derating)
+
+
+# ----------------------------------------------------------------------------------------------
+# Weather risk
+
+
+def schedules_in(model: Any) -> list[WeeklySchedule]:
+    """Every weekly schedule inside a spec (lamps, process, machine, transmitter, ...)."""
+    found: list[WeeklySchedule] = []
+    if isinstance(model, WeeklySchedule):
+        return [model]
+    if isinstance(model, BaseModel):
+        for name in type(model).model_fields:
+            found.extend(schedules_in(getattr(model, name)))
+    elif isinstance(model, list | tuple):
+        for item in model:
+            found.extend(schedules_in(item))
+    return found
+
+
+def day_signatures(prep: Prepared) -> np.ndarray:
+    """An id per day (365,): days with equal ids have the same hours on every schedule of the spot."""
+    masks = [s.mask() for s in schedules_in(prep.spec.source)]
+    masks += [prep.spec.node.task_mask(t) for t in prep.spec.node.task]
+    if not masks:
+        return np.zeros(365, dtype=int)
+    table = np.concatenate([m.reshape(365, 24) for m in masks], axis=1)
+    return np.unique(table, axis=0, return_inverse=True)[1].ravel()
+
+
+def resampled_days(signature: np.ndarray, years: int, seed: int, *, block_days: int = 7) -> np.ndarray:
+    """Source day for every day of each synthetic year (years, 365).
+
+    Each month is cut into blocks of ``block_days`` from its first day; each block takes the days of
+    a block moved by whole weeks (so weekdays keep their place) that lies wholly inside the same
+    month and has the same schedule signature on every day. Runs of dull days within a block survive.
+    """
+    rng = np.random.default_rng(seed)
+    month_of_day = month_of_hour()[::24]
+    out = np.empty((years, 365), dtype=int)
+    for month in range(1, 13):
+        in_month = np.flatnonzero(month_of_day == month)
+        first, last = int(in_month[0]), int(in_month[-1])
+        for start in range(first, last + 1, block_days):
+            days = np.arange(start, min(start + block_days, last + 1))
+            shifts = [7 * w for w in range(-5, 6)
+                      if first <= days[0] + 7 * w and days[-1] + 7 * w <= last
+                      and np.array_equal(signature[days + 7 * w], signature[days])]
+            pick = np.asarray(shifts)[rng.integers(0, len(shifts), size=years)]
+            out[:, days] = days[None, :] + pick[:, None]
+    return out
+
+
+def hours_from_days(day_map: np.ndarray) -> np.ndarray:
+    """Hour indices (years, 8760) from a day map (years, 365)."""
+    return (day_map[:, :, None] * 24 + np.arange(24)[None, None, :]).reshape(day_map.shape[0], -1)
+
+
+def outage_mask(years: int, rate_per_year: float, mean_days: float, rng: np.random.Generator) -> np.ndarray:
+    """(years, 8760) booleans, True while the process or machine is down for an unplanned outage."""
+    mask = np.zeros((years, HOURS_PER_YEAR), dtype=bool)
+    if rate_per_year <= 0 or mean_days <= 0:
+        return mask
+    counts = rng.poisson(rate_per_year, size=years)
+    for y, n in enumerate(counts):
+        for _ in range(n):
+            start = int(rng.integers(0, HOURS_PER_YEAR))
+            length = max(1, round(float(rng.exponential(mean_days)) * 24))
+            mask[y, start:start + length] = True
+    return mask
+
+
+@dataclass
+class WeatherRisk:
+    """Deficit days over many resampled years for each source and all together."""
+
+    years: int
+    seed: int
+    deficit_days: dict[str, np.ndarray]
+    day_map: np.ndarray
+
+    def summary(self, case: str) -> dict[str, float]:
+        dd = self.deficit_days[case]
+        return {"p50": float(np.percentile(dd, 50)), "p90": float(np.percentile(dd, 90)),
+                "p99": float(np.percentile(dd, 99)), "chance_any": float(np.mean(dd > 0)),
+                "mean": float(dd.mean())}
+
+    def to_json(self) -> dict[str, Any]:
+        return {"years": self.years, "seed": self.seed,
+                "cases": {k: {key: round(v, 4) for key, v in self.summary(k).items()} for k in self.deficit_days}}
+
+
+OUTAGE_KINDS = ("thermoelectric", "vibration")
+
+
+def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate_per_year: float = 0.0,
+                 outage_mean_days: float = 3.0) -> WeatherRisk:
+    """Deficit days of each source (and all together) over ``years`` resampled years.
+
+    Each year is run twice in a row and counted the second time, so its 1 January store state is
+    what the year itself leaves (as for the single year). One kernel call per case.
+    """
+    sig = day_signatures(prep)
+    day_map = resampled_days(sig, years, seed)
+    hours = hours_from_days(day_map)
+    rng = np.random.default_rng(seed + 1)
+    down = outage_mask(years, outage_rate_per_year, outage_mean_days, rng)
+    allowed = prep.charge_allowed[hours]
+    per_source_run, per_source_cold = [], []
+    for h in prep.harvests:
+        run, cold = h.running_w[hours], h.cold_w[hours]
+        if h.kind in OUTAGE_KINDS and down.any():
+            run, cold = np.where(down, 0.0, run), np.where(down, 0.0, cold)
+        per_source_run.append(run)
+        per_source_cold.append(cold)
+    cases = [(h, r, c) for h, r, c in zip(prep.harvests, per_source_run, per_source_cold, strict=True)]
+    both = combine(prep.harvests)
+    cases.append((both, np.sum(per_source_run, axis=0), np.sum(per_source_cold, axis=0)))
+    results: dict[str, np.ndarray] = {}
+    demand = np.tile(prep.demand_j, 2)
+    for h, run, cold in cases:
+        lv = store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v, quiescent_w=h.quiescent_w)
+        res = simulate(np.tile(run, 2) * SECONDS_PER_HOUR, demand, StoreArrays.stack([lv] * years),
+                       cold_harvest_j=np.tile(cold, 2) * SECONDS_PER_HOUR, charge_allowed=np.tile(allowed, 2),
+                       min_from=HOURS_PER_YEAR, daily_only=True)
+        results[h.id] = res.dark_days[:, 365:].sum(axis=1)
+    return WeatherRisk(years, seed, results, day_map)
