@@ -63,3 +63,15 @@ def test_bridge_rectifier():
     dc_v, dc_p = bridge_rectifier(np.array([0.5, 1.0, 3.0]), np.array([1.0, 1.0, 1.0]), diode_drop_v=0.3)
     np.testing.assert_allclose(dc_v, [0.0, 0.4, 2.4])
     np.testing.assert_allclose(dc_p, [0.0, 0.4, 0.8])
+
+
+def test_each_kind_starts_from_its_own_preset():
+    """A partial conditioning table fills the rest from the kind's default preset, not another kind's."""
+    from siteharvest.sources import SOURCE_KINDS
+
+    for kind, (model, _) in SOURCE_KINDS.items():
+        extra = {"preset": "healthy-pump-50hz"} if kind == "vibration" else {}
+        own = model(id="x", **extra).conditioning.preset
+        partial = model(id="x", conditioning={"quiescent_ua": 0.1}, **extra).conditioning
+        assert partial.preset == own and partial.quiescent_ua == 0.1
+        assert partial.mppt_fraction == CONDITIONING_PRESETS[own]["mppt_fraction"]

@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import ClassVar
+from typing import Any, ClassVar
 
 import numpy as np
-from pydantic import Field
+from pydantic import Field, model_validator
 
 from ..conditioning import ConditioningSpec
 from ..fields import Section
@@ -30,6 +30,18 @@ class SourceBase(Section):
     conditioning: ConditioningSpec = Field(default_factory=ConditioningSpec,
                                            description="the power-conditioning stage between this "
                                            "transducer and the store (a preset name or a table)")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _kind_conditioning(cls, data: Any) -> Any:
+        """A conditioning table without a preset starts from this kind's own default preset (the
+        preset of the kind's declared ``conditioning`` default)."""
+        if isinstance(data, dict):
+            cond = data.get("conditioning")
+            if isinstance(cond, dict) and "preset" not in cond:
+                own = cls.model_fields["conditioning"].default_factory().preset  # type: ignore[misc]
+                data = {**data, "conditioning": {"preset": own, **cond}}
+        return data
 
 
 @dataclass

@@ -372,11 +372,7 @@ class IndoorLightSource(SourceBase):
         if not isinstance(data, dict):
             return data
         name = data.get("technology", DEFAULT_TECHNOLOGY)
-        merged = {**TECHNOLOGIES.get(name, {}), **data}   # an unknown name fails on the field itself
-        cond = merged.get("conditioning")
-        if isinstance(cond, dict) and "preset" not in cond:
-            merged["conditioning"] = {"preset": "solar-cell-boost", **cond}
-        return merged
+        return {**TECHNOLOGIES.get(name, {}), **data}   # an unknown name fails on the field itself
 
 
 assert set(LightSource.__args__) == set(photometry.LAMP_SOURCES)  # type: ignore[attr-defined]

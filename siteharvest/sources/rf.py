@@ -34,7 +34,7 @@ from itertools import pairwise
 from typing import Any, ClassVar, Literal
 
 import numpy as np
-from pydantic import Field, field_validator, model_validator
+from pydantic import Field, field_validator
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
@@ -106,15 +106,6 @@ class RfSource(SourceBase):
     conditioning: ConditioningSpec = Field(
         default_factory=lambda: ConditioningSpec(preset="rf-dc-boost"),
         description="the power-conditioning stage (DC boost after the rectifier by default)")
-
-    @model_validator(mode="before")
-    @classmethod
-    def _default_conditioning(cls, data: Any) -> Any:
-        if isinstance(data, dict):
-            cond = data.get("conditioning")
-            if isinstance(cond, dict) and "preset" not in cond:
-                data = {**data, "conditioning": {"preset": "rf-dc-boost", **cond}}
-        return data
 
     @field_validator("rectifier_curve")
     @classmethod

@@ -190,11 +190,6 @@ class ThermoelectricSource(SourceBase):
         elif isinstance(hot, dict) and "mode" not in hot:
             mode = "file" if "file" in hot else "schedule" if "process_on_c" in hot else "constant"
             merged["hot_side"] = {"mode": mode, **hot}
-        cond = merged.get("conditioning")
-        if cond is None:
-            merged["conditioning"] = {"preset": "thermal-low-voltage-boost"}
-        elif isinstance(cond, dict) and "preset" not in cond:
-            merged["conditioning"] = {"preset": "thermal-low-voltage-boost", **cond}
         return merged
 
 
