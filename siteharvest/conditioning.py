@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from pydantic import Field, field_validator, model_validator
+from pydantic import Field, field_serializer, field_validator, model_validator
 
 from .fields import Section, quantity
 
@@ -90,7 +90,7 @@ class ConditioningSpec(Section):
     )
     efficiency_vs_input_v: list[tuple[float, float]] | None = Field(
         None, description="optional converter efficiency against input voltage: pairs (input [V], "
-        "efficiency [-]); when given it is used instead of the power curve", min_length=1,
+        "efficiency [-]); when given it is used instead of the power curve; [] for none", min_length=1,
     )
     min_input_uw: float = quantity(1.0, "uW", "least input power the running converter accepts", ge=0, le=1e6)
     min_input_v: float = quantity(0.1, "V", "least input voltage the running converter accepts", ge=0, le=60)
@@ -117,7 +117,14 @@ class ConditioningSpec(Section):
             raise ValueError(f"preset must be one of {', '.join(CONDITIONING_PRESETS)}")
         merged = {"preset": name, "efficiency_vs_input_v": None, **CONDITIONING_PRESETS[name]}
         merged.update(data)
+        if merged.get("efficiency_vs_input_v") == []:   # written as [] when cleared (TOML has no null)
+            merged["efficiency_vs_input_v"] = None
         return merged
+
+    @field_serializer("efficiency_vs_input_v")
+    def _keep_cleared_curve(self, curve: list[tuple[float, float]] | None) -> list[tuple[float, float]]:
+        """None is written as [] so that a site file keeps a cleared curve the preset would supply."""
+        return [] if curve is None else curve
 
     @field_validator("efficiency_curve", "efficiency_vs_input_v")
     @classmethod

@@ -190,8 +190,16 @@ def load_site(path: str | Path) -> SiteSpec:
 
 def dump_site(spec: SiteSpec) -> str:
     """The spot as site-file TOML text that loads back to an equal :class:`SiteSpec`."""
-    data = spec.model_dump(mode="json", exclude_none=True)
-    return tomli_w.dumps(data)
+    return tomli_w.dumps(_without_none(spec.model_dump(mode="json")))
+
+
+def _without_none(value: Any) -> Any:
+    """TOML has no null: leave unset optional fields out (after serialisers have had their say)."""
+    if isinstance(value, dict):
+        return {k: _without_none(v) for k, v in value.items() if v is not None}
+    if isinstance(value, list):
+        return [_without_none(v) for v in value]
+    return value
 
 
 def site_schema() -> dict[str, Any]:

@@ -7,7 +7,7 @@ import tomllib
 
 import jsonschema
 import pytest
-from conftest import SAMPLES
+from shared import SAMPLES
 
 from siteharvest.cli import main
 from siteharvest.site import site_schema

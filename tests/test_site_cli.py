@@ -8,7 +8,7 @@ import sys
 
 import jsonschema
 import pytest
-from conftest import BASE_SITE
+from shared import BASE_SITE
 
 from siteharvest.cli import main
 from siteharvest.errors import SiteInputError
@@ -142,3 +142,15 @@ def test_duplicate_source_ids(site_file):
     text = BASE_SITE + '\n[[source]]\nid = "panel"\nkind = "solar"\n'
     with pytest.raises(SiteInputError, match="unique"):
         load_site(site_file(text))
+
+
+def test_cleared_preset_curve_survives_the_round_trip():
+    """A curve the preset supplies but the user cleared stays cleared in the saved site file."""
+    text = BASE_SITE.replace('kind = "solar"\narea_cm2 = 3.0\ntilt_deg = 45',
+                             'kind = "thermoelectric"\nhot_side = 60\n[source.conditioning]\n'
+                             'preset = "thermal-low-voltage-boost"\nefficiency_vs_input_v = []')
+    spec = parse_site_text(text)
+    assert spec.source[0].conditioning.efficiency_vs_input_v is None
+    again = parse_site_text(dump_site(spec))
+    assert again.source[0].conditioning.efficiency_vs_input_v is None
+    assert again.model_dump() == spec.model_dump()

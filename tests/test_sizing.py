@@ -6,9 +6,9 @@ import json
 
 import numpy as np
 import pytest
-from conftest import BASE_SITE
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from shared import BASE_SITE
 
 from siteharvest.assess import prepare
 from siteharvest.cli import main

@@ -1,0 +1,517 @@
+"""Callbacks: plain functions over the stores' contents, registered by :func:`register`.
+
+Each function can be called directly (tests, benchmarks). Those that must know which input fired
+take it as a ``trigger`` keyword, ``(component id, value)``; Dash calls them without it and they ask
+``dash.ctx``. State lives in the ``dcc.Store`` components only.
+"""
+
+from __future__ import annotations
+
+import base64
+import binascii
+import copy
+import logging
+from typing import Any
+
+import dash
+import numpy as np
+from dash import ALL, Input, Output, State, html, no_update
+from dash.exceptions import PreventUpdate
+
+from siteharvest.cautions import DEFER
+from siteharvest.errors import SiteInputError
+from siteharvest.site import dump_site, parse_site, parse_site_text
+from siteharvest.vibration_spectrum import read_spectrum_csv
+
+from . import ids
+from .editor import render_editor
+from .engine import (
+    assessment_for,
+    check_weather_text,
+    clean_message,
+    materialise,
+    record_from_spec,
+    sha256_text,
+    site_dict,
+    unique_key,
+)
+from .fieldspec import EditProblem, apply_action, apply_edit, apply_spectrum, display_value, value_at
+from .figures import case_calendar_figure, case_week_figure, case_year_figure, empty_figure, find_case, sources_figure
+from .layout import spot_options
+from .tables import SUMMARY_COLUMNS, summary_rows
+
+log = logging.getLogger(__name__)
+Trigger = tuple[Any, Any]
+MAX_UPLOAD_BYTES = 20_000_000
+
+
+def _trigger() -> Trigger:
+    ctx = dash.ctx
+    if not ctx.triggered:
+        raise PreventUpdate
+    return ctx.triggered_id, ctx.triggered[0].get("value")
+
+
+def _triggered_id() -> Any:
+    try:
+        return dash.ctx.triggered_id
+    except Exception:  # called outside a Dash request (tests, benchmarks)
+        return None
+
+
+def _validate(site: dict[str, Any], record: dict[str, Any]) -> dict[str, Any]:
+    """The normalised site dict of a candidate, or SiteInputError (file named as the user knows it)."""
+    spec = parse_site(copy.deepcopy(site), file=record.get("file") or "<site>")
+    return site_dict(spec)
+
+
+def _with_site(spots: dict[str, Any], key: str, site: dict[str, Any], **extra: Any) -> dict[str, Any]:
+    spots = dict(spots)
+    record = dict(spots[key])
+    record["site"] = site
+    record.update(extra)
+    spots[key] = record
+    return spots
+
+
+def _upload_name(uploads: dict[str, str], name: str, sha: str) -> str:
+    """The name an upload is kept under: its own, unless another upload of that name differs."""
+    if uploads.get(name, sha) == sha:
+        return name
+    stem, dot, ext = name.rpartition(".")
+    stem, ext = (stem, "." + ext) if dot else (name, "")
+    n = 2
+    while uploads.get(f"{stem}-{n}{ext}", sha) != sha:
+        n += 1
+    return f"{stem}-{n}{ext}"
+
+
+def _referenced_files(spots: dict[str, Any], files: dict[str, str]) -> dict[str, str]:
+    """Only the uploaded texts some spot still uses."""
+    used = {sha for rec in spots.values() for sha in (rec.get("files") or {}).values()}
+    return {sha: text for sha, text in files.items() if sha in used}
+
+
+def _readable_path(path: str) -> str:
+    out = ""
+    for part in path.split("."):
+        out += f"[{part}]" if part.isdigit() else (f".{part}" if out else part)
+    return out
+
+
+def _problem_text(exc: Exception) -> str:
+    if isinstance(exc, EditProblem | SiteInputError):
+        return clean_message(str(exc))
+    return clean_message(str(exc).splitlines()[0] if str(exc) else type(exc).__name__)
+
+
+# --------------------------------------------------------------------------------------------------
+# the editor
+
+
+def render_editor_cb(key: str, rev: int, spots: dict[str, Any], files: dict[str, str] | None,
+                     group_open: list[bool] | None = None, group_ids: list[dict[str, str]] | None = None) -> Any:
+    """Rebuild the editor for the chosen spot (after a change of spot, structure or preset).
+
+    Returns (editor, message line, note line): both lines are cleared when another spot is chosen.
+    """
+    if not spots or key not in spots:
+        raise PreventUpdate
+    new_spot = _triggered_id() == ids.SPOT_PICKER
+    open_groups = None
+    if group_open and group_ids and not new_spot:
+        open_groups = {gid["key"] for gid, is_open in zip(group_ids, group_open, strict=False) if is_open}
+    record = spots[key]
+    editor = render_editor(record["site"], record.get("files") or {}, open_groups)
+    return editor, ("" if new_spot else no_update), ("" if new_spot else no_update)
+
+
+def edit_field(values: list[Any], msg_ids: list[dict[str, str]], key: str, spots: dict[str, Any],
+               rev: int, *, trigger: Trigger | None = None) -> tuple[Any, list[Any], Any]:
+    """One input changed: validate the spot with that value; keep the old spot when it does not fit.
+
+    Returns (spots, messages beside the inputs, editor revision).
+    """
+    field_id, value = trigger if trigger is not None else _trigger()
+    if not isinstance(field_id, dict) or key not in (spots or {}):
+        raise PreventUpdate
+    path, role = field_id["path"], field_id["role"]
+    record = spots[key]
+    site = record["site"]
+    if not role.startswith(("variant:", "toggle")) and value == display_value(role, value_at(site, path)):
+        raise PreventUpdate  # the editor was rebuilt, or nothing changed
+    message = ""
+    new_spots: Any = no_update
+    new_rev: Any = no_update
+    try:
+        weather_uploads = {n: (record.get("files") or {}).get(n, "") for n in record.get("weather_files") or []}
+        candidate, structural = apply_edit(site, path, role, value, uploads=weather_uploads)
+        new_site = _validate(candidate, record)
+        if new_site != site:
+            new_spots = _with_site(spots, key, new_site)
+        if structural:
+            new_rev = (rev or 0) + 1
+    except EditProblem as exc:
+        message = str(SiteInputError(exc.expected, file=record.get("file"), field=_readable_path(path), got=exc.got))
+    except SiteInputError as exc:
+        message = _problem_text(exc)
+    messages = [message if m.get("path") == path else no_update for m in msg_ids]
+    return new_spots, messages, new_rev
+
+
+def edit_structure(clicks: list[int | None], key: str, spots: dict[str, Any], rev: int, *,
+                   trigger: Trigger | None = None) -> tuple[Any, Any, str]:
+    """An add or remove button: validate the changed spot; keep the old one when it does not fit."""
+    button, n = trigger if trigger is not None else _trigger()
+    if not isinstance(button, dict) or not n or key not in (spots or {}):
+        raise PreventUpdate
+    record = spots[key]
+    try:
+        candidate = apply_action(record["site"], button["action"], button["path"])
+        new_site = _validate(candidate, record)
+    except (EditProblem, SiteInputError) as exc:
+        return no_update, no_update, _problem_text(exc)
+    return _with_site(spots, key, new_site), (rev or 0) + 1, ""
+
+
+def _decode_upload(contents: str | None, filename: str | None) -> tuple[str, str]:
+    """(file name, text) of a dcc.Upload value; SiteInputError for binary or oversized files."""
+    name = filename or "upload"
+    if not contents or "," not in contents:
+        raise SiteInputError("a file", file=name, got="nothing")
+    try:
+        raw = base64.b64decode(contents.split(",", 1)[1], validate=False)
+    except (binascii.Error, ValueError):
+        raise SiteInputError("a readable file", file=name) from None
+    if len(raw) > MAX_UPLOAD_BYTES:
+        raise SiteInputError(f"a file under {MAX_UPLOAD_BYTES // 1_000_000} MB", file=name,
+                             got=f"{len(raw) / 1e6:.1f} MB")
+    for encoding in ("utf-8-sig", "latin-1"):
+        try:
+            text = raw.decode(encoding)
+            break
+        except UnicodeDecodeError:
+            continue
+    if "\x00" in text:
+        raise SiteInputError("a text file (CSV, EPW, TMY3 or TOML)", file=name, got="binary data")
+    return name, text
+
+
+def upload_weather(contents: str | None, filename: str | None, key: str, spots: dict[str, Any],
+                   files: dict[str, str] | None, rev: int) -> tuple[Any, Any, str, Any, Any]:
+    """A weather file dropped on the editor: use it when it reads; else say why and keep the spot.
+
+    Returns (spots, files, message beside the upload, note above the editor, editor revision).
+    """
+    if not contents or key not in (spots or {}):
+        raise PreventUpdate
+    record = spots[key]
+    try:
+        name, text = _decode_upload(contents, filename)
+        notes = check_weather_text(name, text, record["site"])
+        sha = sha256_text(text)
+        name = _upload_name(record.get("files") or {}, name, sha)
+        site = copy.deepcopy(record["site"])
+        site["weather"] = {"file": name, "file_format": "auto"}
+        new_site = _validate(site, record)
+    except SiteInputError as exc:
+        return no_update, no_update, _problem_text(exc), no_update, no_update
+    uploads = {**(record.get("files") or {}), name: sha}
+    weather_files = [n for n in record.get("weather_files") or [] if n != name] + [name]
+    spots = _with_site(spots, key, new_site, files=uploads, weather_files=weather_files)
+    new_files = _referenced_files(spots, {**(files or {}), sha: text})
+    note = f"Weather from {name}." + (" " + "; ".join(clean_message(n) for n in notes[:3]) if notes else "")
+    return spots, new_files, "", note, (rev or 0) + 1
+
+
+def upload_spectrum(contents: list[str | None], filenames: list[str | None], msg_ids: list[dict[str, str]],
+                    key: str, spots: dict[str, Any], files: dict[str, str] | None, rev: int, *,
+                    trigger: Trigger | None = None) -> tuple[Any, Any, list[Any], Any, Any]:
+    """A vibration survey spectrum dropped on a vibration source.
+
+    Returns (spots, files, messages beside the uploads, note above the editor, editor revision).
+    """
+    upload_id, value = trigger if trigger is not None else _trigger()
+    if not isinstance(upload_id, dict) or not value or key not in (spots or {}):
+        raise PreventUpdate
+    path = upload_id["path"]
+    index = next((i for i, m in enumerate(msg_ids) if m.get("path") == path), None)
+    filename = filenames[index] if index is not None and index < len(filenames) else None
+    record = spots[key]
+
+    def answer(text: str) -> list[Any]:
+        return [text if m.get("path") == path else no_update for m in msg_ids]
+
+    try:
+        name, text = _decode_upload(value, filename)
+        sha = sha256_text(text)
+        name = _upload_name(record.get("files") or {}, name, sha)
+        candidate, assumed = apply_spectrum(record["site"], path, name)
+        src = value_at(candidate, path)
+        read_spectrum_csv(materialise(name, text), src.get("spectrum_kind", "amplitude"), src["spectrum_unit"],
+                          src.get("spectrum_measure"), frequency_column=src.get("frequency_column", "frequency_hz"),
+                          value_column=src.get("value_column"))
+        new_site = _validate(candidate, record)
+    except (SiteInputError, EditProblem) as exc:
+        return no_update, no_update, answer(_problem_text(exc)), no_update, no_update
+    uploads = {**(record.get("files") or {}), name: sha}
+    spots = _with_site(spots, key, new_site, files=uploads)
+    src_id = value_at(new_site, path).get("id", path)
+    note = f"Vibration of {src_id} from {name}" + (
+        f" ({', '.join(assumed)}: check the spectrum fields)." if assumed else ".")
+    return spots, _referenced_files(spots, {**(files or {}), sha: text}), answer(""), note, (rev or 0) + 1
+
+
+def upload_site(contents: str | None, filename: str | None, key: str, spots: dict[str, Any]) -> tuple[Any, Any, str]:
+    """A site file opened from disk: add it to the portfolio and show it."""
+    if not contents:
+        raise PreventUpdate
+    base_dir = (spots or {}).get(key, {}).get("base_dir") or "."
+    try:
+        name, text = _decode_upload(contents, filename)
+        spec = parse_site_text(text, file=name)
+    except SiteInputError as exc:
+        return no_update, no_update, _problem_text(exc)
+    stem = name.rsplit(".", 1)[0] or "spot"
+    new_key = unique_key(stem, spots or {})
+    spots = {**(spots or {}), new_key: record_from_spec(spec, new_key, name, base_dir)}
+    return spots, new_key, f"Opened {name} as '{spec.spot.name}'."
+
+
+def download_site(n_clicks: int | None, key: str, spots: dict[str, Any]) -> dict[str, str]:
+    """The current spot as a site file (the last good values)."""
+    if not n_clicks or key not in (spots or {}):
+        raise PreventUpdate
+    record = spots[key]
+    spec = parse_site(copy.deepcopy(record["site"]), file=record.get("file") or "<site>")
+    filename = record.get("file") or f"{key}.toml"
+    if not filename.endswith(".toml"):
+        filename += ".toml"
+    return {"content": dump_site(spec), "filename": filename, "type": "application/toml", "base64": False}
+
+
+def picker_options(spots: dict[str, Any]) -> list[dict[str, str]]:
+    return spot_options(spots or {})
+
+
+# --------------------------------------------------------------------------------------------------
+# results
+
+
+def _summary_table(a: Any) -> html.Table:
+    rows, energy_unit = summary_rows(a)
+    head = []
+    for col, title, unit in SUMMARY_COLUMNS:
+        unit = energy_unit if col == "annual_energy" else unit
+        head.append(html.Th([title, html.Span(f" [{unit}]", className="sh-th-unit") if unit else None],
+                            className=f"sh-col-{col}"))
+    body = []
+    for r in rows:
+        cells = []
+        for col, _, _ in SUMMARY_COLUMNS:
+            if col == "source":
+                cells.append(html.Td([html.Div(r["source"]), html.Div(r["what"], className="sh-what")],
+                                     className="sh-col-source", title=r["what"]))
+            elif col == "verdict":
+                cells.append(html.Td(html.Span(r["verdict"], className=f"sh-verdict {r['verdict_class']}"),
+                                     className="sh-col-verdict"))
+            else:
+                cells.append(html.Td(r[col], className=f"sh-col-{col}"))
+        body.append(html.Tr(cells, className="sh-row-combined" if r["combined"] else None))
+    return html.Table([html.Thead(html.Tr(head)), html.Tbody(body)], className="sh-table")
+
+
+def _cautions(a: Any) -> list[Any]:
+    if not a.cautions:
+        return []
+    items = [html.Li([html.Strong(c.title + ". "), c.text.replace(DEFER, "").strip()]) for c in a.cautions]
+    summary = html.Summary([
+        html.Span("Before fitting, safety:", className="sh-caution-head"),
+        *[html.Span(c.title, className="sh-caution-chip") for c in a.cautions],
+        html.Span("read the notes", className="sh-link sh-caution-more"),
+    ])
+    return [html.Details([summary, html.Ul(items)], className="sh-caution-box"),
+            html.P(DEFER, className="sh-defer")]
+
+
+def _notes(a: Any, base_dir: str | None) -> list[Any]:
+    notes = list(a.warnings)
+    if not notes:
+        return []
+    return [html.Details([html.Summary(f"Notes on this year ({len(notes)})"),
+                          html.Ul([html.Li(clean_message(n, base_dir)) for n in notes])])]
+
+
+def recompute(spots: dict[str, Any], key: str, files: dict[str, str] | None,
+              case_value: str | None) -> tuple[Any, ...]:
+    """Assess the chosen spot: status, summary table, cautions, notes, sources figure, case choices."""
+    if not spots or key not in spots:
+        raise PreventUpdate
+    record = spots[key]
+    try:
+        a = assessment_for(record, files)
+    except (SiteInputError, ValueError) as exc:
+        msg = _problem_text(exc)
+        status = html.Div([html.Strong("This spot cannot be simulated yet: "), msg], className="sh-status-bad",
+                          role="alert")
+        return (status, [], [], [], empty_figure("no results: see the message above"), [], None)
+    spot = a.spec.spot
+    demand_uw = a.mean_power_uw
+    status = html.Div([
+        html.Span(spot.name, className="sh-status-name"),
+        html.Span(f"weather: {clean_message(a.prepared.weather_meta.source, record.get('base_dir'))}"),
+        html.Span(f"mean demand {demand_uw:.3g} µW"),
+        html.Span(f"usable store {a.usable_energy_j:.3g} J"),
+        html.Span(f"{len(a.sources)} source{'s' if len(a.sources) != 1 else ''}"),
+    ], className="sh-status-ok")
+    options = [{"label": f"{c.id} ({c.verdict})" if c.kind != "combined" else f"all sources together ({c.verdict})",
+                "value": c.id} for c in a.cases]
+    values = [o["value"] for o in options]
+    value = case_value if case_value in values else values[0]
+    return (status, _summary_table(a), _cautions(a), _notes(a, record.get("base_dir")), sources_figure(a), options,
+            value)
+
+
+def case_views(case_id: str | None, week: str | None, spots: dict[str, Any], key: str,
+               files: dict[str, str] | None) -> tuple[Any, Any, Any, str]:
+    """The year heatmap, the calendar and the week of the chosen source."""
+    if not spots or key not in spots or case_id is None:
+        raise PreventUpdate
+    try:
+        a = assessment_for(spots[key], files)
+    except (SiteInputError, ValueError) as exc:
+        blank = empty_figure(_problem_text(exc)[:120])
+        return blank, blank, blank, ""
+    case = find_case(a, case_id)
+    start = None if week in (None, "worst") else int(week)
+    week_fig, start_day, caption = case_week_figure(a, case, start)
+    off_week = int((~np.asarray(case.node_on[start_day * 24:(start_day + 7) * 24], dtype=bool)).sum())
+    text = (f"Showing {caption}." if caption else f"Node off {off_week} h in these seven days.")
+    return case_year_figure(a, case), case_calendar_figure(case), week_fig, text
+
+
+def portfolio(tab: str, spots: dict[str, Any], files: dict[str, str] | None) -> list[dict[str, Any]]:
+    """Every loaded spot with its best source (computed when the portfolio tab is open)."""
+    from .tables import portfolio_row
+
+    if tab != ids.TAB_PORTFOLIO or not spots:
+        raise PreventUpdate
+    rows = []
+    for key, record in spots.items():
+        try:
+            rows.append(portfolio_row(key, record.get("file", ""), assessment_for(record, files)))
+        except (SiteInputError, ValueError) as exc:
+            rows.append(portfolio_row(key, record.get("file", ""), None, _problem_text(exc),
+                                      record["site"]["spot"]["name"]))
+    return rows
+
+
+def open_from_portfolio(active_cell: dict[str, Any] | None, data: list[dict[str, Any]] | None,
+                        derived: list[dict[str, Any]] | None) -> Any:
+    """Clicking a spot's row in the portfolio opens it."""
+    if not active_cell or not data:
+        raise PreventUpdate
+    rows = derived or data
+    row = active_cell.get("row")
+    if row is None or row >= len(rows):
+        raise PreventUpdate
+    return rows[row]["key"]
+
+
+# --------------------------------------------------------------------------------------------------
+
+
+def register(app: dash.Dash) -> None:
+    """Wire every callback to ``app`` (never to the global registry)."""
+    field_all = {"type": ids.FIELD_TYPE, "path": ALL, "role": ALL}
+    msg_all = {"type": ids.FIELD_MSG_TYPE, "path": ALL}
+    group_all = {"type": ids.GROUP_TYPE, "key": ALL}
+    spectrum_all = {"type": ids.SPECTRUM_UPLOAD_TYPE, "path": ALL}
+    spectrum_msg_all = {"type": ids.SPECTRUM_MSG_TYPE, "path": ALL}
+
+    app.callback(
+        Output(ids.EDITOR, "children"), Output(ids.EDITOR_MSG, "children", allow_duplicate=True),
+        Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
+        Input(ids.SPOT_PICKER, "value"), Input(ids.FORM_REV, "data"),
+        State(ids.SPOTS, "data"), State(ids.FILES, "data"), State(group_all, "open"), State(group_all, "id"),
+        prevent_initial_call=True,
+    )(render_editor_cb)
+
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(msg_all, "children"),
+        Output(ids.FORM_REV, "data", allow_duplicate=True),
+        Input(field_all, "value"),
+        State(msg_all, "id"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FORM_REV, "data"),
+        prevent_initial_call=True,
+    )(edit_field)
+
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
+        Output(ids.EDITOR_MSG, "children", allow_duplicate=True),
+        Input({"type": ids.ACTION_TYPE, "action": ALL, "path": ALL}, "n_clicks"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FORM_REV, "data"),
+        prevent_initial_call=True,
+    )(edit_structure)
+
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FILES, "data", allow_duplicate=True),
+        Output(ids.WEATHER_UPLOAD_MSG, "children"), Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
+        Output(ids.FORM_REV, "data", allow_duplicate=True),
+        Input(ids.WEATHER_UPLOAD, "contents"), State(ids.WEATHER_UPLOAD, "filename"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        State(ids.FORM_REV, "data"),
+        prevent_initial_call=True,
+    )(upload_weather)
+
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FILES, "data", allow_duplicate=True),
+        Output(spectrum_msg_all, "children"), Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
+        Output(ids.FORM_REV, "data", allow_duplicate=True),
+        Input(spectrum_all, "contents"), State(spectrum_all, "filename"), State(spectrum_msg_all, "id"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        State(ids.FORM_REV, "data"),
+        prevent_initial_call=True,
+    )(upload_spectrum)
+
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
+        Output(ids.SITE_UPLOAD_MSG, "children"),
+        Input(ids.SITE_UPLOAD, "contents"), State(ids.SITE_UPLOAD, "filename"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
+        prevent_initial_call=True,
+    )(upload_site)
+
+    app.callback(
+        Output(ids.SITE_DOWNLOAD, "data"),
+        Input(ids.SITE_DOWNLOAD_BUTTON, "n_clicks"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
+        prevent_initial_call=True,
+    )(download_site)
+
+    app.callback(Output(ids.SPOT_PICKER, "options"), Input(ids.SPOTS, "data"))(picker_options)
+
+    app.callback(
+        Output(ids.STATUS, "children"), Output(ids.SUMMARY, "children"), Output(ids.CAUTIONS, "children"),
+        Output(ids.NOTES, "children"), Output(ids.FIG_SOURCES, "figure"),
+        Output(ids.CASE_PICKER, "options"), Output(ids.CASE_PICKER, "value"),
+        Input(ids.SPOTS, "data"), Input(ids.SPOT_PICKER, "value"),
+        State(ids.FILES, "data"), State(ids.CASE_PICKER, "value"),
+    )(recompute)
+
+    app.callback(
+        Output(ids.FIG_YEAR, "figure"), Output(ids.FIG_CALENDAR, "figure"), Output(ids.FIG_WEEK, "figure"),
+        Output(ids.WEEK_CAPTION, "children"),
+        Input(ids.CASE_PICKER, "value"), Input(ids.WEEK_PICKER, "value"),
+        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.FILES, "data"),
+    )(case_views)
+
+    app.callback(
+        Output(ids.PORTFOLIO_TABLE, "data"),
+        Input(ids.TABS, "value"), Input(ids.SPOTS, "data"), State(ids.FILES, "data"),
+    )(portfolio)
+
+    app.callback(
+        Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
+        Input(ids.PORTFOLIO_TABLE, "active_cell"), State(ids.PORTFOLIO_TABLE, "data"),
+        State(ids.PORTFOLIO_TABLE, "derived_virtual_data"),
+        prevent_initial_call=True,
+    )(open_from_portfolio)

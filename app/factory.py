@@ -1,0 +1,52 @@
+"""The app factory: ``create_app(paths) -> dash.Dash``, callbacks registered on that app only."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import dash
+
+from . import callbacks
+from .engine import load_records
+from .layout import build_layout
+
+ASSETS = Path(__file__).resolve().parents[1] / "assets"
+
+INDEX = """<!DOCTYPE html>
+<html lang="en">
+    <head>
+        {%metas%}
+        <title>{%title%}</title>
+        <link rel="icon" type="image/svg+xml" href="{%app_path%}assets/mark.svg">
+        {%css%}
+    </head>
+    <body>
+        {%app_entry%}
+        <footer>
+            {%config%}
+            {%scripts%}
+            {%renderer%}
+        </footer>
+    </body>
+</html>
+"""
+
+
+def create_app(paths: list[Path] | list[str] | None = None) -> dash.Dash:
+    """A dashboard over the site files (or folders of them) in ``paths``; none: the sample spots."""
+    spots, errors = load_records([Path(p) for p in paths] if paths else None)
+    app = dash.Dash(
+        __name__,
+        assets_folder=str(ASSETS),
+        serve_locally=True,
+        external_stylesheets=[],
+        external_scripts=[],
+        title="siteharvest",
+        update_title=None,
+        meta_tags=[{"name": "viewport", "content": "width=device-width, initial-scale=1"},
+                   {"name": "description", "content": "Year-round energy-harvesting check for sensor node spots"}],
+    )
+    app.index_string = INDEX.replace("{%app_path%}assets/mark.svg", app.get_asset_url("mark.svg"))
+    app.layout = build_layout(spots, errors, app.get_asset_url("mark.svg"))
+    callbacks.register(app)
+    return app

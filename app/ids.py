@@ -1,0 +1,82 @@
+"""Component ids of the dashboard, in one place (layout, callbacks and tests share them).
+
+Plain strings are single components; the ``*_TYPE`` constants are the ``type`` key of
+pattern-matching dict ids (one per generated input, message, button or upload).
+"""
+
+from __future__ import annotations
+
+# state (dcc.Store)
+SPOTS = "sh-spots"  # {key: spot record}: every loaded spot, as dumped site dicts
+FILES = "sh-files"  # {sha256: text}: uploaded weather and spectrum files
+FORM_REV = "sh-form-rev"  # int: bumped when the editor must be rebuilt (structure or presets changed)
+
+# header
+SPOT_PICKER = "sh-spot-picker"
+SITE_UPLOAD = "sh-site-upload"
+SITE_UPLOAD_MSG = "sh-site-upload-msg"
+SITE_DOWNLOAD_BUTTON = "sh-site-download-button"
+SITE_DOWNLOAD = "sh-site-download"
+
+# editor
+EDITOR = "sh-editor"
+EDITOR_MSG = "sh-editor-msg"
+EDITOR_NOTE = "sh-editor-note"  # what an accepted upload brought (assumptions, notes)
+WEATHER_UPLOAD = "sh-weather-upload"
+WEATHER_UPLOAD_MSG = "sh-weather-upload-msg"
+FIELD_TYPE = "sh-field"  # {"type", "path", "role"}: one input per site-file field
+FIELD_MSG_TYPE = "sh-field-msg"  # {"type", "path"}: the message beside that input
+ACTION_TYPE = "sh-action"  # {"type", "action", "path"}: add / remove buttons
+SPECTRUM_UPLOAD_TYPE = "sh-spectrum-upload"  # {"type", "path"}: per vibration source
+SPECTRUM_MSG_TYPE = "sh-spectrum-msg"  # {"type", "path"}
+GROUP_TYPE = "sh-group"  # {"type", "key"}: the foldable groups of the editor
+
+# results
+STATUS = "sh-status"
+SUMMARY = "sh-summary"
+CAUTIONS = "sh-cautions"
+NOTES = "sh-notes"
+CASE_PICKER = "sh-case-picker"
+WEEK_PICKER = "sh-week-picker"
+TABS = "sh-tabs"
+FIG_SOURCES = "sh-fig-sources"
+FIG_YEAR = "sh-fig-year"
+FIG_CALENDAR = "sh-fig-calendar"
+FIG_WEEK = "sh-fig-week"
+WEEK_CAPTION = "sh-week-caption"
+PORTFOLIO = "sh-portfolio"
+PORTFOLIO_TABLE = "sh-portfolio-table"
+LOAD_ERRORS = "sh-load-errors"
+
+# tab values
+TAB_SOURCES = "tab-sources"
+TAB_YEAR = "tab-year"
+TAB_CALENDAR = "tab-calendar"
+TAB_WEEK = "tab-week"
+TAB_PORTFOLIO = "tab-portfolio"
+
+
+def field_id(path: str, role: str) -> dict[str, str]:
+    """The id of the input for the site-file field at ``path`` (dotted, list indexes as numbers)."""
+    return {"type": FIELD_TYPE, "path": path, "role": role}
+
+
+def field_msg_id(path: str) -> dict[str, str]:
+    return {"type": FIELD_MSG_TYPE, "path": path}
+
+
+def group_id(key: str) -> dict[str, str]:
+    return {"type": GROUP_TYPE, "key": key}
+
+
+def action_id(action: str, path: str) -> dict[str, str]:
+    return {"type": ACTION_TYPE, "action": action, "path": path}
+
+
+def dom_id(component_id: dict[str, str] | str) -> str:
+    """The DOM id Dash gives a component (dict ids become JSON with sorted keys)."""
+    if isinstance(component_id, str):
+        return component_id
+    import json
+
+    return "{" + ",".join(f"{json.dumps(k)}:{json.dumps(component_id[k])}" for k in sorted(component_id)) + "}"

@@ -1,0 +1,123 @@
+"""Table contents: pure functions from assessments to rows (no Dash), shared with the report."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from siteharvest.assess import Assessment, CaseResult
+from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
+
+from .figures import si_scale
+
+VERDICT_ORDER = [words for _, words in VERDICTS] + [INSUFFICIENT, NEVER_STARTS]
+VERDICT_CLASS = {words: f"sh-verdict-{i}" for i, words in enumerate(VERDICT_ORDER)}
+VERDICT_MEANING = {
+    VERDICTS[0][1]: "0 deficit days",
+    VERDICTS[1][1]: f"1–{VERDICTS[1][0]}",
+    VERDICTS[2][1]: f"{VERDICTS[1][0] + 1}–{VERDICTS[2][0]}",
+    INSUFFICIENT: f"> {VERDICTS[2][0]}",
+    NEVER_STARTS: "no wake from empty",
+}
+
+SUMMARY_COLUMNS = [
+    ("source", "Source", ""),
+    ("verdict", "Verdict", ""),
+    ("annual_energy", "Into the store", "per year"),
+    ("deficit_days", "Deficit days", "d/yr"),
+    ("first_wake", "First wake", "h"),
+    ("longest_outage", "Longest outage", "h"),
+    ("lowest_soc", "Lowest charge", "%"),
+    ("backup_life", "Backup cell life", "yr"),
+]
+
+
+def fmt(x: float | None, digits: int = 3) -> str:
+    if x is None or not np.isfinite(x):
+        return "—"
+    if x == 0:
+        return "0"
+    return f"{x:.{digits}g}" if abs(x) < 10 ** digits else f"{x:,.0f}"
+
+
+def first_wake_text(hours: float) -> str:
+    if not np.isfinite(hours):
+        return "never"
+    if hours >= 48:
+        return f"{hours:.0f} ({hours / 24:.1f} d)"
+    return f"{hours:.0f}"
+
+
+def case_name(c: CaseResult) -> str:
+    return "all together" if c.kind == "combined" else c.id
+
+
+def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
+    """One row per source and one for all together; and the unit of the energy column."""
+    cases = a.cases
+    factor, unit = si_scale(max((c.annual_energy_wh for c in cases), default=1.0), "Wh")
+    rows = []
+    for c in cases:
+        rows.append({
+            "id": c.id,
+            "combined": c.kind == "combined",
+            "source": case_name(c),
+            "what": c.label if c.kind != "combined" else "every source charging the one store",
+            "kind": c.kind,
+            "annual_energy": fmt(c.annual_energy_wh / factor),
+            "deficit_days": str(int(c.deficit_days)),
+            "first_wake": first_wake_text(c.first_wake_hours),
+            "longest_outage": str(int(c.longest_outage_hours)),
+            "lowest_soc": fmt(c.lowest_soc_pct, 2),
+            "backup_life": fmt(c.backup_life_years, 2),
+            "verdict": c.verdict,
+            "verdict_class": VERDICT_CLASS.get(c.verdict, ""),
+        })
+    return rows, f"{unit}/yr"
+
+
+def best_source(a: Assessment) -> CaseResult:
+    """The source with fewest deficit days, then earliest first wake, then most energy."""
+    def rank(c: CaseResult) -> tuple[float, float, float]:
+        fw = c.first_wake_hours if np.isfinite(c.first_wake_hours) else math.inf
+        return (float(c.deficit_days), fw, -c.annual_energy_wh)
+
+    return min(a.sources, key=rank) if a.sources else a.combined
+
+
+PORTFOLIO_COLUMNS = [
+    {"id": "spot", "name": "Spot", "type": "text"},
+    {"id": "best", "name": "Best source", "type": "text"},
+    {"id": "verdict", "name": "Its verdict", "type": "text"},
+    {"id": "deficit_days", "name": "Deficit days [d/yr]", "type": "numeric"},
+    {"id": "first_wake_h", "name": "First wake [h]", "type": "numeric"},
+    {"id": "energy_wh", "name": "Its energy [Wh/yr]", "type": "numeric"},
+    {"id": "demand_uw", "name": "Node demand [µW]", "type": "numeric"},
+    {"id": "together", "name": "All together", "type": "text"},
+    {"id": "file", "name": "Site file", "type": "text"},
+]
+
+
+def portfolio_row(key: str, file: str, a: Assessment | None, error: str = "", name: str = "") -> dict[str, Any]:
+    """One row of the portfolio table (numbers kept as numbers so the table sorts them)."""
+    if a is None:
+        return {"key": key, "spot": name or key, "best": "—", "verdict": f"could not assess: {error}",
+                "deficit_days": None, "first_wake_h": None, "energy_wh": None, "demand_uw": None,
+                "together": "—", "sources": None, "file": file}
+    best = best_source(a)
+    fw = best.first_wake_hours
+    return {
+        "key": key,
+        "spot": a.spec.spot.name,
+        "best": best.id,
+        "verdict": best.verdict,
+        "deficit_days": int(best.deficit_days),
+        "first_wake_h": round(float(fw), 1) if np.isfinite(fw) else None,
+        "energy_wh": float(f"{best.annual_energy_wh:.4g}"),
+        "demand_uw": float(f"{a.mean_power_uw:.4g}"),
+        "together": a.combined.verdict,
+        "sources": len(a.sources),
+        "file": file,
+    }
