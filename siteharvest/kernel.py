@@ -11,7 +11,8 @@ Arrays are shaped (configurations, hours). Each hour, for every configuration:
 4. leakage ``a*e + b*sqrt(e) + c`` is taken from the store, where ``c`` (the converter's
    quiescent draw) applies only once the store is past its cold-start level: while cold-starting
    the converter runs from its input;
-5. a node that is off switches on once the store reaches its turn-on level.
+5. a node that is off, or was cut off this hour, runs in the next hour only if the store stands
+   at its turn-on level (without hysteresis, turn-on = cut-off, it serves what it can hour by hour).
 
 Configurations flagged ``always_on`` never switch off: their unmet energy is what a backup cell
 would have to supply. The loop is compiled (numba), configurations spread over the CPU cores; the
@@ -139,9 +140,9 @@ def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on,
                 on_rec[k, t + 1:] = False
                 short_rec[k, t + 1:] = False
                 break
-            if on:
-                on = not short
-            else:
+            # on stays on while nothing ran short; otherwise (off, or just cut off) it runs next
+            # hour only from the turn-on level up
+            if not on or short:
                 on = e >= c_on
             if c_forced:
                 on = True

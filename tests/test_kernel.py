@@ -36,7 +36,7 @@ def plain_loop(harvest, cold, demand, allowed, *, full, cut, turn_on, cold_lvl, 
         rec["unmet"].append(unmet)
         rec["served"].append(direct + from_store)
         short = unmet > 1e-12
-        on = True if always else ((not short) if on else e >= turn_on)
+        on = True if always else (True if on and not short else e >= turn_on)
         for key, val in (("harvest", h), ("direct", direct), ("drawn", from_store), ("unmet", unmet),
                          ("to_store", stored), ("charge_loss", stored / eff - stored),
                          ("spilled", spare - stored / eff), ("leaked", leak)):
