@@ -1,4 +1,4 @@
-"""Command line: ``siteharvest assess | size | schema | serve``.
+"""Command line: ``siteharvest assess | size | report | schema | serve``.
 
 Bad input prints one line naming the file, the field and what was expected, and exits with 2.
 """
@@ -149,6 +149,31 @@ def cmd_size(args: argparse.Namespace) -> int:
     return 0
 
 
+def cmd_report(args: argparse.Namespace) -> int:
+    try:
+        from app.report import ReportError, write_report
+    except ImportError:
+        print("siteharvest: the report needs the dashboard package (app), which is not installed in this build",
+              file=sys.stderr)
+        return 1
+    out = Path(args.output)
+    if out.suffix.lower() not in (".pdf", ".html", ".htm"):
+        raise SiteInputError("an output file ending in .pdf or .html", field="-o/--output", got=args.output)
+    if args.risk_years < 0:
+        raise SiteInputError("0 (to skip) or a positive number of years", field="--risk-years", got=args.risk_years)
+    if args.sizing_steps < 2:
+        raise SiteInputError("at least 2 sizes along each axis", field="--sizing-steps", got=args.sizing_steps)
+    try:
+        written = write_report(args.site, out, sizing=not args.no_sizing, risk_years=args.risk_years,
+                               sizing_steps=args.sizing_steps, hourly=not args.no_hourly)
+    except ReportError as exc:
+        print(f"siteharvest: {exc}", file=sys.stderr)
+        return 1
+    for path in written:
+        print(path)
+    return 0
+
+
 def cmd_schema(args: argparse.Namespace) -> int:
     from .site import site_schema_text
 
@@ -190,6 +215,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--outage-days", type=float, default=3.0, help="mean length of an outage [days]")
     p.add_argument("--json", action="store_true", help="print the results as JSON")
     p.set_defaults(func=cmd_size)
+    p = sub.add_parser("report", help="write a feasibility report (PDF or HTML) for a spot, or for a folder of "
+                       "spots as a portfolio, with each spot's hourly series as CSV beside it")
+    p.add_argument("site", help="site file (.toml), or a folder of them for a portfolio")
+    p.add_argument("-o", "--output", required=True, metavar="OUT.pdf",
+                   help="the report to write: .pdf or .html")
+    p.add_argument("--no-sizing", action="store_true", help="leave out the sizing study")
+    p.add_argument("--risk-years", type=int, default=200, metavar="N",
+                   help="resampled weather years for the weather risk (0 to skip; default 200)")
+    p.add_argument("--sizing-steps", type=int, default=24, metavar="N",
+                   help="sizes tried along each axis of a sizing map (default 24)")
+    p.add_argument("--no-hourly", action="store_true", help="do not write the hourly CSV files")
+    p.set_defaults(func=cmd_report)
     p = sub.add_parser("schema", help="print the JSON Schema of the site file")
     p.set_defaults(func=cmd_schema)
     p = sub.add_parser("serve", help="start the dashboard (default: the bundled sample spots)")

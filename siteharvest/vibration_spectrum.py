@@ -28,6 +28,7 @@ Wiley (power spectral density, Parseval's relation).
 from __future__ import annotations
 
 import csv
+import functools
 import math
 from pathlib import Path
 
@@ -160,6 +161,30 @@ def _rows(path: Path) -> list[tuple[int, list[str]]]:
 
 
 def read_spectrum_csv(path: str | Path, kind: str, unit: str, measure: str | None, *,
+                      frequency_column: str = "frequency_hz",
+                      value_column: str | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Read a vibration survey spectrum (cached by file, size and modification time; see
+    :func:`_read_spectrum_csv` for the method). The arrays returned are read-only."""
+    p = Path(path)
+    try:
+        stat = p.stat()
+        stamp = (stat.st_size, stat.st_mtime_ns)
+    except OSError:
+        stamp = None   # let the reader name the missing file
+    return _cached_read(str(p), stamp, kind, unit, measure, frequency_column, value_column)
+
+
+@functools.lru_cache(maxsize=32)
+def _cached_read(path: str, stamp: tuple[int, int] | None, kind: str, unit: str, measure: str | None,
+                 frequency_column: str, value_column: str | None) -> tuple[np.ndarray, np.ndarray]:
+    freq, accel = _read_spectrum_csv(path, kind, unit, measure, frequency_column=frequency_column,
+                                     value_column=value_column)
+    freq.flags.writeable = False
+    accel.flags.writeable = False
+    return freq, accel
+
+
+def _read_spectrum_csv(path: str | Path, kind: str, unit: str, measure: str | None, *,
                       frequency_column: str = "frequency_hz",
                       value_column: str | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Read a vibration survey spectrum and return RMS acceleration per frequency line.

@@ -1,0 +1,658 @@
+"""The report as one self-contained HTML document (inline CSS and SVG, no script, nothing fetched).
+
+Plain string building with :class:`string.Template` for the page frame. The same HTML is printed to
+PDF, so the print rules (A4, page breaks, running footer) live in its CSS.
+"""
+
+from __future__ import annotations
+
+import base64
+import datetime as dt
+import json
+import math
+import re
+from collections.abc import Callable, Sequence
+from html import escape
+from string import Template
+from typing import Any
+
+import numpy as np
+import plotly.graph_objects as go
+from pydantic import BaseModel
+
+import siteharvest
+from app.figures import (
+    OKABE_ITO,
+    case_calendar_figure,
+    case_week_figure,
+    case_year_figure,
+    sources_figure,
+)
+from app.figures_sizing import SIZE_LABELS, risk_histogram, sizing_heatmap, unit_text
+from siteharvest.assess import Assessment, CaseResult
+from siteharvest.fields import bounds_of
+from siteharvest.metrics import J_PER_WH, monthly_sum
+from siteharvest.sizing import SizingMap
+from siteharvest.timegrid import REFERENCE_YEAR
+
+from .methods import (
+    GENERAL_ASSUMPTIONS,
+    KIND_METHODS,
+    RISK_ASSUMPTIONS,
+    SIZING_ASSUMPTIONS,
+    collect_references,
+    modules_for,
+)
+from .study import SpotStudy, case_label, drawn_cell, portfolio_sha256, ranked
+
+SvgMaker = Callable[[go.Figure, str], str]
+MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
+QUESTION = "Can a wireless sensor node mounted at {where} run all year on the energy it harvests there?"
+PORTFOLIO_QUESTION = ("Can a wireless sensor node at each of these spots run all year on the energy it harvests "
+                      "there, and which spots are the safest bets?")
+# Bar patterns so that the monthly bars stay apart in a black-and-white print.
+BAR_PATTERNS = ("", "/", ".", "x", "\\", "+", "-", "|")
+
+
+# --------------------------------------------------------------------------------------------------
+# number formats (the tests read the same numbers back from the PDF through these)
+
+
+def fmt_sig(x: float, digits: int = 4) -> str:
+    """``digits`` significant figures, never in exponent form: 34.26, 0.01234, 12350."""
+    x = float(x)
+    if not math.isfinite(x):
+        return "-"
+    if x == 0:
+        return "0"
+    return np.format_float_positional(x, precision=digits, unique=False, fractional=False, trim="-")
+
+
+def fmt_energy_wh(x: float) -> str:
+    """Energy into the store in Wh (per year or month), as printed in the report."""
+    return fmt_sig(x, 4)
+
+
+def fmt_hours(h: float) -> str:
+    if not math.isfinite(h):
+        return "never"
+    return f"{h:,.0f}"
+
+
+def fmt_years(y: float) -> str:
+    return f"{y:.1f}" if math.isfinite(y) else "-"
+
+
+def fmt_interval_s(s: float) -> str:
+    """A task period in plain units: 45 s, 12 min, 2.5 h, 1.2 days."""
+    if s < 120:
+        return f"{s:.3g} s"
+    if s < 2 * 3600:
+        return f"{s / 60:.3g} min"
+    if s < 2 * 86400:
+        return f"{s / 3600:.3g} h"
+    return f"{s / 86400:.3g} days"
+
+
+def fmt_value(value: Any) -> str:
+    """A site-file value as text."""
+    if value is None:
+        return "not set"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, float):
+        return f"{value:.6g}"
+    if isinstance(value, list | tuple):
+        return json.dumps(value, default=str).replace('"', "'") if value else "none"
+    return str(value)
+
+
+def fmt_size(value: float, unit: str, field: str = "") -> str:
+    """A harvester or store size with its unit (``3 modules``, ``6.17 cm²``, ``0.47 F``)."""
+    shown = unit_text(unit, integer=float(value).is_integer())
+    text = f"{value:.3g}"
+    if shown == "count":
+        noun = "module" if field == "modules" else "unit"
+        return f"{text} {noun}{'' if value == 1 else 's'}"
+    return text if shown == "-" else f"{text} {shown}"
+
+
+def e(x: Any) -> str:
+    return escape(str(x), quote=True)
+
+
+def table(head: Sequence[str], rows: Sequence[Sequence[str]], *, num: Sequence[int] = (), cls: str = "",
+          raw: bool = False, caption: str = "") -> str:
+    """An HTML table; cells are escaped unless ``raw``; columns in ``num`` are right-aligned."""
+    def cell(tag: str, i: int, text: str) -> str:
+        attr = ' class="num"' if i in num else ""
+        return f"<{tag}{attr}>{text if raw else e(text)}</{tag}>"
+
+    cap = f"<caption>{e(caption)}</caption>" if caption else ""
+    thead = "<tr>" + "".join(cell("th", i, h) for i, h in enumerate(head)) + "</tr>"
+    body = "".join("<tr>" + "".join(cell("td", i, c) for i, c in enumerate(r)) + "</tr>" for r in rows)
+    return f'<table class="{cls}">{cap}<thead>{thead}</thead><tbody>{body}</tbody></table>'
+
+
+def figure(svg: str, caption: str = "") -> str:
+    cap = f"<figcaption>{e(caption)}</figcaption>" if caption else ""
+    return f"<figure>{svg}{cap}</figure>"
+
+
+# --------------------------------------------------------------------------------------------------
+# print styling added to the dashboard's figures (patterns and marks that survive greyscale)
+
+
+def print_ready_monthly(fig: go.Figure) -> go.Figure:
+    """Give each source's bars its own fill pattern as well as its colour."""
+    k = 0
+    for trace in fig.data:
+        if isinstance(trace, go.Bar):
+            trace.marker.pattern = {"shape": BAR_PATTERNS[k % len(BAR_PATTERNS)], "fgcolor": "#000000",
+                                    "size": 5, "solidity": 0.25}
+            trace.marker.line = {"color": "#000000", "width": 0.6}
+            k += 1
+    return fig
+
+
+def print_ready_calendar(fig: go.Figure, case: CaseResult) -> go.Figure:
+    """Cross out each deficit day, so the calendar reads without its colours."""
+    days = np.flatnonzero(case.deficit_days_mask)
+    if days.size:
+        dates = [dt.date(REFERENCE_YEAR, 1, 1) + dt.timedelta(days=int(d)) for d in days]
+        fig.add_trace(go.Scatter(
+            x=[d.day for d in dates], y=[MONTHS[d.month - 1] for d in dates], mode="markers",
+            name="deficit day (crossed)", showlegend=False, hoverinfo="skip",
+            marker={"symbol": "x-thin", "size": 9, "line": {"color": OKABE_ITO["black"], "width": 1.6}}))
+    return fig
+
+
+# --------------------------------------------------------------------------------------------------
+# sections of one spot
+
+
+def answer_sentence(study: SpotStudy) -> str:
+    a = study.assessment
+    best = study.best
+    assert a is not None and best is not None
+    target = study.target
+    limit = "no deficit day" if target == 0 else f"at most {target} deficit day{'s' if target != 1 else ''}"
+    if study.passes(best):
+        return (f"<strong>Yes.</strong> With <strong>{e(best.id)}</strong> ({e(best.kind)}) the node has "
+                f"{best.deficit_days} deficit day{'s' if best.deficit_days != 1 else ''} in the year "
+                f"(target: {limit}); verdict <em>{e(best.verdict)}</em>.")
+    if study.passes(a.combined) and len(a.sources) > 1:
+        return (f"<strong>Only with all sources together.</strong> No single source meets the target ({limit}); "
+                f"together they give {a.combined.deficit_days} deficit days, verdict "
+                f"<em>{e(a.combined.verdict)}</em>.")
+    return (f"<strong>Not as drawn.</strong> The best source, <strong>{e(best.id)}</strong> ({e(best.kind)}), "
+            f"leaves {best.deficit_days} deficit days a year (target: {limit}); verdict "
+            f"<em>{e(best.verdict)}</em>. See <em>What would make it pass</em>.")
+
+
+def results_section(study: SpotStudy) -> str:
+    a = study.assessment
+    assert a is not None
+    rows = []
+    for c in a.cases:
+        rows.append([case_label(c), c.kind if c.kind != "combined" else "-", c.verdict,
+                     "meets" if study.passes(c) else "misses", fmt_energy_wh(c.annual_energy_wh),
+                     str(c.deficit_days), fmt_hours(c.first_wake_hours), f"{c.longest_outage_hours:,}",
+                     fmt_years(c.backup_life_years)])
+    demand_wh = float(a.prepared.demand_j.sum() / J_PER_WH)
+    backup = (f"{a.backup.cell} ({'assumed reference cell' if a.backup_is_assumed else 'as named in the site file'})")
+    intro = (f"<p>The node draws {a.mean_power_uw:,.1f} µW on average, {fmt_energy_wh(demand_wh)} Wh a year. "
+             f"The store holds {a.usable_energy_j:,.3g} J between full and cut-off, about "
+             f"{fmt_sig(a.combined.autonomy_days, 3)} days of demand with no harvest. The backup cell, "
+             f"{e(backup)}, would run the node alone for {fmt_years(a.backup_only_life_years)} years; "
+             f"the last column is its life alongside each source.</p>")
+    head = ["Source", "Kind", "Verdict", "Target", "Into the store [Wh/yr]", "Deficit days [days/yr]",
+            "First wake [h]", "Longest outage [h]", "Backup cell life [yr]"]
+    return ("<h2>Results per source</h2>" + intro
+            + table(head, rows, num=(4, 5, 6, 7, 8), cls="results")
+            + '<p class="small">Target: at most ' + str(study.target) + " deficit days a year "
+            "(<code>run.target_deficit_days</code>), with a first wake. First wake: hours from installation "
+            "with an empty store; longest outage: hours off in a row after that.</p>")
+
+
+def monthly_section(study: SpotStudy, svg: SvgMaker) -> str:
+    a = study.assessment
+    assert a is not None
+    demand = monthly_sum(a.prepared.demand_j) / J_PER_WH
+    rows = [[case_label(c)] + [fmt_sig(v, 3) for v in c.monthly_energy_wh] + [fmt_energy_wh(c.annual_energy_wh)]
+            for c in a.cases]
+    rows.append(["node demand"] + [fmt_sig(v, 3) for v in demand] + [fmt_energy_wh(float(demand.sum()))])
+    fig = print_ready_monthly(sources_figure(a))
+    return ('<div class="keep"><h2>Energy month by month</h2>'
+            + figure(svg(fig, "Energy into the store each month against the node's demand"),
+                     "Bars: energy into the store per month for each source (fill patterns tell them apart); "
+                     "dashed line with diamonds: the node's demand. Log scale.") + "</div>"
+            + table(["Energy [Wh]", *MONTHS, "Year"], rows, num=tuple(range(1, 14)), cls="monthly"))
+
+
+def year_section(study: SpotStudy, svg: SvgMaker) -> str:
+    a, best = study.assessment, study.best
+    assert a is not None and best is not None
+    case = best
+    cal = print_ready_calendar(case_calendar_figure(case), case)
+    week, _, caption = case_week_figure(a, case)
+    year = case_year_figure(a, case)
+    # a little shorter than on screen, so that a page holds more (figures with no legend below the plot)
+    cal.update_layout(height=390)
+    year.update_layout(height=370)
+    return (f'<div class="keep"><h2>The year with {e(case.id)}</h2>'
+            f"<p>The best single source, shown hour by hour. Deficit days: {case.deficit_days}; "
+            f"longest outage after first wake: {case.longest_outage_hours:,} h.</p>"
+            + figure(svg(cal, f"Deficit calendar, {case.id}"),
+                     "Each square is a day; crossed squares are deficit days.") + "</div>"
+            + figure(svg(week, f"Worst week, {case.id}"), f"The worst week: {caption}.")
+            + figure(svg(year, f"Energy in the store across the year, {case.id}"),
+                     "Stored energy by day (across) and hour (up); darkest is the node's cut-off."))
+
+
+def _pick_text(m: SizingMap) -> str:
+    if m.pick is None:
+        return "nothing in the map"
+    i, j = m.pick
+    edge = " (edge of the map)" if m.pick_at_edge else ""
+    return (f"{fmt_size(m.harvester_sizes[i], m.harvester_unit, m.harvester_field)} + "
+            f"{fmt_size(m.store_sizes[j], m.store_unit)}{edge}")
+
+
+def _case_sentence(study: SpotStudy, case: CaseResult) -> str:
+    """What would make this case pass (or how much smaller it could be), in words."""
+    m = study.maps.get(case.id)
+    parts = []
+    target = study.target
+    if m is not None:
+        name = SIZE_LABELS.get(m.harvester_field, m.harvester_field).lower()
+        store = SIZE_LABELS.get(m.store_field, m.store_field).lower()
+        if study.passes(case):
+            if m.pick is not None:
+                parts.append(f"<strong>{e(case.id)}</strong> meets the target as drawn. The least harvester and "
+                             f"store in the map that still meet it: {name} and {store} of {e(_pick_text(m))}.")
+        elif m.pick is not None:
+            i, j = m.pick
+            fw = m.first_wake_hours[i, j]
+            wake = f"first wake after {fmt_hours(fw)} h" if np.isfinite(fw) else "no wake within 90 days"
+            edge = (" This sits at the edge of the map: less may pass too." if m.pick_at_edge else "")
+            parts.append(f"<strong>{e(case.id)}</strong> misses the target as drawn ({case.deficit_days} deficit "
+                         f"days). It meets it (at most {target}) with a {name} of "
+                         f"<strong>{e(fmt_size(m.harvester_sizes[i], m.harvester_unit, m.harvester_field))}</strong> "
+                         f"and a {store} of <strong>{e(fmt_size(m.store_sizes[j], m.store_unit))}</strong> "
+                         f"({int(m.deficit_days[i, j])} deficit days, {wake}).{edge}")
+            others = [f"{fmt_size(m.harvester_sizes[a], m.harvester_unit, m.harvester_field)} + "
+                      f"{fmt_size(m.store_sizes[b], m.store_unit)}" for a, b in m.frontier if (a, b) != m.pick]
+            if others:
+                parts.append("Other least combinations that pass (the frontier): " + e("; ".join(others[:6]))
+                             + (" ..." if len(others) > 6 else "") + ".")
+        else:
+            top = (f"{fmt_size(m.harvester_sizes[-1], m.harvester_unit, m.harvester_field)} and "
+                   f"{fmt_size(m.store_sizes[-1], m.store_unit)}")
+            fewest = int(m.deficit_days.min())
+            if fewest == int(m.deficit_days.max()):
+                where = f"every combination in it (up to {top}) leaves {fewest} deficit days"
+            else:
+                k = np.unravel_index(int(np.argmin(m.deficit_days)), m.deficit_days.shape)
+                where = (f"the fewest deficit days in it are {fewest}, with "
+                         f"{fmt_size(m.harvester_sizes[k[0]], m.harvester_unit, m.harvester_field)} and "
+                         f"{fmt_size(m.store_sizes[k[1]], m.store_unit)} (map up to {top})")
+            parts.append(f"<strong>{e(case.id)}</strong> misses the target as drawn ({case.deficit_days} deficit "
+                         f"days) and <strong>nothing in the map passes</strong>: {e(where)}.")
+    elif not study.passes(case):
+        parts.append(f"<strong>{e(case_label(case))}</strong> misses the target as drawn "
+                     f"({case.deficit_days} deficit days).")
+    if case.id in study.intervals:
+        iv = study.intervals[case.id]
+        if iv is None:
+            pass
+        elif iv.shortest_every_s is None:
+            parts.append(f"Running '{e(iv.task)}' less often does not rescue it: even once a week it misses the "
+                         "target.")
+        else:
+            parts.append(f"Or keep the hardware and run '{e(iv.task)}' every "
+                         f"<strong>{e(fmt_interval_s(iv.shortest_every_s))}</strong> at most "
+                         f"(drawn: every {e(fmt_interval_s(iv.drawn_every_s))}).")
+    return " ".join(parts)
+
+
+def sizing_section(study: SpotStudy, svg: SvgMaker) -> str:
+    a = study.assessment
+    assert a is not None
+    out = ["<h2>What would make it pass</h2>"]
+    if study.sizing_error:
+        out.append(f"<p>The sizing study could not be run: {e(study.sizing_error)}</p>")
+    if not study.maps and not study.intervals:
+        out.append("<p>The sizing study was not run for this report.</p>")
+        return "".join(out)
+    rows = []
+    for c in a.sources:
+        m = study.maps.get(c.id)
+        if m is None:
+            continue
+        i0, j0 = drawn_cell(m)
+        rows.append([c.id, SIZE_LABELS.get(m.harvester_field, m.harvester_field),
+                     f"{fmt_size(m.harvester_drawn, m.harvester_unit, m.harvester_field)} + "
+                     f"{fmt_size(m.store_drawn, m.store_unit)}", str(int(m.deficit_days[i0, j0])), _pick_text(m),
+                     "-" if m.pick is None else str(int(m.deficit_days[m.pick]))])
+    if rows:
+        out.append(table(["Source", "Harvester size", "As drawn (harvester + store)", "Deficit days",
+                          "Least that passes", "Its deficit days"], rows, num=(3, 5), cls="sizing"))
+    sentences = [s for s in (_case_sentence(study, c) for c in a.cases) if s]
+    out.append("<ul class='plain'>" + "".join(f"<li>{s}</li>" for s in sentences) + "</ul>")
+    failing = [c for c in a.sources if not study.passes(c) and c.id in study.maps]
+    for c in failing:
+        fig = sizing_heatmap(study.maps[c.id])
+        fig.update_layout(height=440)
+        out.append(figure(svg(fig, f"Sizing map, {c.id}"),
+                          f"Deficit days by harvester and store size for {c.id}; lighter is better. Star: the "
+                          "pick; round marks on a dotted line: the frontier; cross: as drawn."))
+    if not failing:
+        out.append("<p>Every source meets the target as drawn, so no sizing map is shown.</p>")
+    return "".join(out)
+
+
+def risk_section(study: SpotStudy, svg: SvgMaker) -> str:
+    a, risk = study.assessment, study.risk
+    assert a is not None
+    out = ['<div class="keep"><h2>Weather risk</h2>']
+    if study.risk_error:
+        out.append(f"<p>The weather-risk study could not be run: {e(study.risk_error)}</p>")
+    if risk is None:
+        if not study.risk_error:
+            out.append("<p>The weather-risk study was not run for this report.</p>")
+        return "".join(out) + "</div>"
+    out.append(f"<p>Deficit days over {risk.years} years made by resampling whole weeks of the spot's own year "
+               f"(seed {risk.seed}). P50: half the years have at most this many; P90: nine years in ten; "
+               "P99: ninety-nine in a hundred.</p>")
+    rows = []
+    for c in a.cases:
+        if c.id not in risk.deficit_days:
+            continue
+        s = risk.summary(c.id)
+        rows.append([case_label(c), f"{s['p50']:.0f}", f"{s['p90']:.0f}", f"{s['p99']:.0f}", f"{s['mean']:.1f}",
+                     f"{s['chance_any']:.0%}"])
+    out.append(table(["Source", "P50 [days/yr]", "P90 [days/yr]", "P99 [days/yr]", "Mean [days/yr]",
+                      "Years with any deficit day"], rows, num=(1, 2, 3, 4, 5), cls="risk") + "</div>")
+    best = study.best
+    if best is not None and best.id in risk.deficit_days:
+        out.append(figure(svg(risk_histogram(risk, best.id), f"Weather risk, {best.id}"),
+                          f"How many resampled years had how many deficit days with {best.id}; "
+                          "solid, dashed and dotted lines: P50, P90, P99."))
+    return "".join(out)
+
+
+def notes_section(a: Assessment) -> str:
+    notes = list(a.prepared.weather_meta.notes)
+    notes = [n for n in a.warnings if n not in notes] + notes
+    meta = a.prepared.weather_meta
+    items = [f"Weather year: {e(meta.source)}."] + [e(n) for n in notes]
+    return "<h2>Notes from the models</h2><ul>" + "".join(f"<li>{n}</li>" for n in items) + "</ul>"
+
+
+def cautions_section(a: Assessment) -> str:
+    if not a.cautions:
+        return ("<h2>Safety</h2><p>No particular caution applies to the sources, store and spot as described. "
+                "Local codes, site rules and licensed practice still come first.</p>")
+    body = "".join(f'<div class="caution"><h3>{e(c.title)}</h3><p>{e(c.text)}</p></div>' for c in a.cautions)
+    return ("<h2>Safety</h2><p>General guidance for fitting at this spot; it does not replace local codes, site "
+            "rules or licensed practice, which come first.</p>" + body)
+
+
+def _strip_unit(doc: str) -> str:
+    return re.sub(r"\s*\[[^\]]*\]$", "", doc or "")
+
+
+def input_rows(model: BaseModel, prefix: str = "") -> list[list[str]]:
+    """Every field of a site-file section (nested tables flattened), with its value, unit and meaning."""
+    rows: list[list[str]] = []
+    for name, info in type(model).model_fields.items():
+        value = getattr(model, name)
+        path = f"{prefix}{name}"
+        if isinstance(value, BaseModel):
+            rows.extend(input_rows(value, path + "."))
+        elif isinstance(value, list | tuple) and value and all(isinstance(v, BaseModel) for v in value):
+            for i, item in enumerate(value):
+                rows.extend(input_rows(item, f"{path}[{i}]."))
+        else:
+            unit = bounds_of(type(model), name).unit  # the unit declared with the field's bounds
+            rows.append([path, fmt_value(value), unit_text(unit) if unit else "", _strip_unit(info.description or "")])
+    return rows
+
+
+def inputs_section(study: SpotStudy) -> str:
+    spec = study.spec
+    assert spec is not None
+    out = ["<h2>The spot and every input</h2>",
+           "<p>Every value the results rest on, defaults included, as read from the site file. A unit of "
+           "'-' means a plain number (a ratio or a count).</p>"]
+    head = ["Field", "Value", "Unit", "Meaning"]
+    sections: list[tuple[str, BaseModel]] = [("[spot]", spec.spot), ("[weather]", spec.weather),
+                                             ("[node]", spec.node), ("[store]", spec.store)]
+    sections += [(f"[[source]] {i}: {src.id} ({src.kind})", src) for i, src in enumerate(spec.source)]
+    sections.append(("[run]", spec.run))
+    for title, model in sections:
+        out.append(f"<h3>{e(title)}</h3>" + table(head, input_rows(model), cls="inputs"))
+    return "".join(out)
+
+
+def appendix_section(study: SpotStudy) -> str:
+    text = study.site_text
+    b64 = base64.b64encode(text.encode("utf-8")).decode("ascii")
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "-", (study.label or "site").rsplit(".", 1)[0]).strip("-") or "site"
+    files = [[f.role, f.name, f.sha256 or "could not be read"] for f in study.input_files]
+    file_table = table(["Input file", "Name", "SHA-256"], files, cls="hashes") if files else ""
+    return ('<section class="appendix"><h2>Appendix: the site file</h2>'
+            "<p>The site file as siteharvest read it, defaults written out: loading it again gives the same "
+            "inputs. The inputs' SHA-256 covers this text and the bytes of every file it names.</p>"
+            f'<p class="screen-only"><a download="{e(stem)}.toml" href="data:text/plain;charset=utf-8;base64,'
+            f'{b64}">Download this site file</a></p>'
+            + file_table + f'<pre class="site">{e(text)}</pre></section>')
+
+
+def spot_header(study: SpotStudy, generated: str, level: str = "h1") -> str:
+    spec = study.spec
+    assert spec is not None
+    spot = spec.spot
+    where = spot.name
+    place = (f"{spot.latitude_deg:.3f}° N, {spot.longitude_deg:.3f}° E, {spot.altitude_m:g} m; "
+             f"{'indoors' if spot.indoors else 'outdoors'}, mounted at {spot.mounting_height_m:g} m; "
+             f"local standard time UTC{spot.utc_offset_h:+g} h")
+    meta = [("Prepared", generated), ("siteharvest", siteharvest.__version__),
+            ("Site file", study.label or "-"), ("Inputs SHA-256", study.input_sha256)]
+    dl = "".join(f"<dt>{e(k)}</dt><dd>{e(v)}</dd>" for k, v in meta)
+    notes = f"<p><strong>Installer's notes:</strong> {e(spot.notes)}</p>" if spot.notes else ""
+    return (f'<header class="spot-head"><p class="kicker">Harvesting feasibility report</p>'
+            f"<{level}>{e(where)}</{level}>"
+            f'<p class="question">{e(QUESTION.format(where=where))}</p>'
+            f'<p class="place">{e(place)}</p>{notes}<dl class="meta">{dl}</dl></header>'
+            f'<div class="answer"><p>{answer_sentence(study)}</p></div>')
+
+
+def spot_body(study: SpotStudy, svg: SvgMaker, generated: str, *, with_methods: bool) -> str:
+    a = study.assessment
+    assert a is not None
+    parts = [spot_header(study, generated), results_section(study), monthly_section(study, svg),
+             year_section(study, svg), sizing_section(study, svg), risk_section(study, svg), notes_section(a),
+             cautions_section(a), inputs_section(study)]
+    if with_methods:
+        parts.append(methods_section([study]))
+    parts.append(appendix_section(study))
+    return "".join(parts)
+
+
+def methods_section(studies: Sequence[SpotStudy]) -> str:
+    done = [s for s in studies if s.ok and s.spec is not None]
+    kinds = list(dict.fromkeys(src.kind for s in done for src in s.spec.source))
+    sizing = any(s.maps for s in done)
+    risk = any(s.risk is not None for s in done)
+    synthetic = any(s.spec.weather.source_kind == "synthetic" for s in done)
+    items = list(GENERAL_ASSUMPTIONS) + [KIND_METHODS[k] for k in kinds if k in KIND_METHODS]
+    if sizing:
+        items += SIZING_ASSUMPTIONS
+    if risk:
+        items += RISK_ASSUMPTIONS
+    refs = collect_references(modules_for(kinds, sizing=sizing or risk, synthetic_weather=synthetic))
+    return ('<section class="methods"><h2>Assumptions and methods</h2><ul>'
+            + "".join(f"<li>{e(i)}</li>" for i in items) + "</ul><h3>References</h3><ol class='refs'>"
+            + "".join(f"<li>{e(r)}</li>" for r in refs) + "</ol></section>")
+
+
+# --------------------------------------------------------------------------------------------------
+# portfolio
+
+
+def ranking_section(studies: Sequence[SpotStudy]) -> str:
+    rows = []
+    for n, s in enumerate(ranked(studies), 1):
+        anchor = f"#spot-{studies.index(s) + 1}"
+        if s.ok and s.best is not None and s.spec is not None:
+            b = s.best
+            rows.append([str(n), f'<a href="{anchor}">{e(s.spec.spot.name)}</a><br><span class="sub">{e(s.label)}'
+                         "</span>", f'{e(b.id)}<br><span class="sub">{e(b.kind)}</span>', str(b.deficit_days),
+                         e(b.verdict), "meets" if s.passes(b) else "misses", e(fmt_hours(b.first_wake_hours))])
+        else:
+            rows.append(["-", f'<span class="error">could not be read</span><br><span class="sub">{e(s.label)}'
+                         "</span>", "-", "-", "-", "-", "-"])
+    broken = [s for s in studies if not s.ok]
+    errors = ""
+    if broken:
+        errors = ("<h3>Site files with errors</h3><p>These spots are left out of the report until their site file "
+                  "is put right:</p><ul class='errors'>" + "".join(f"<li>{e(s.error)}</li>" for s in broken)
+                  + "</ul>")
+    return (table(["Rank", "Spot and site file", "Best source and kind", "Deficit days [days/yr]", "Verdict",
+                   "Target", "First wake [h]"], rows, num=(0, 3, 6), cls="ranking", raw=True) + errors)
+
+
+def portfolio_cover(studies: Sequence[SpotStudy], title: str, generated: str) -> str:
+    meta = [("Prepared", generated), ("siteharvest", siteharvest.__version__),
+            ("Spots", f"{len(studies)} ({sum(s.ok for s in studies)} studied, "
+                      f"{sum(not s.ok for s in studies)} with errors)"),
+            ("Portfolio SHA-256", portfolio_sha256(studies))]
+    dl = "".join(f"<dt>{e(k)}</dt><dd>{e(v)}</dd>" for k, v in meta)
+    return ('<section class="cover"><header class="spot-head"><p class="kicker">Harvesting feasibility report: '
+            f"portfolio</p><h1>{e(title or 'Portfolio of spots')}</h1>"
+            f'<p class="question">{e(PORTFOLIO_QUESTION)}</p><dl class="meta">{dl}</dl></header>'
+            "<h2>Spots ranked by their best source</h2>"
+            "<p>Best source: the one with the fewest deficit days, then the earliest first wake, then the most "
+            "energy. Each spot's own section follows, in the order of the site files.</p>"
+            + ranking_section(studies) + "</section>")
+
+
+# --------------------------------------------------------------------------------------------------
+# the page
+
+
+CSS = Template("""
+@page { size: A4; margin: 15mm 14mm 17mm 14mm;
+  @bottom-left { content: "$footer"; font: 7.5pt $font; color: #444; }
+  @bottom-right { content: "page " counter(page) " of " counter(pages); font: 7.5pt $font; color: #444; } }
+html { font-family: $font; font-size: 9.5pt; line-height: 1.4; color: #111; background: #fff;
+       font-variant-ligatures: none; font-kerning: normal; }
+body { margin: 0 auto; max-width: 200mm; padding: 6mm 4mm; }
+@media print { body { max-width: none; padding: 0; } .screen-only { display: none; } }
+h1 { font-size: 17pt; margin: 0 0 3pt; line-height: 1.2; }
+h2 { font-size: 12.5pt; margin: 14pt 0 5pt; padding-bottom: 2pt; border-bottom: 1.2pt solid #111;
+     break-after: avoid; page-break-after: avoid; }
+h3 { font-size: 10pt; margin: 9pt 0 3pt; break-after: avoid; page-break-after: avoid; }
+p, li { orphans: 3; widows: 3; }
+.kicker { text-transform: uppercase; letter-spacing: 0.08em; font-size: 8pt; color: #444; margin: 0; }
+.question { font-size: 11pt; font-style: italic; margin: 2pt 0 4pt; }
+.place { margin: 0 0 4pt; color: #333; }
+dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 0 8pt; font-size: 8pt; margin: 4pt 0; }
+dl.meta dt { font-weight: bold; } dl.meta dd { margin: 0; word-break: break-all; }
+.answer { border: 1.5pt solid #111; padding: 5pt 8pt; margin: 8pt 0; break-inside: avoid; }
+.answer p { margin: 0; font-size: 10.5pt; }
+table { border-collapse: collapse; width: 100%; font-size: 8pt; margin: 4pt 0 6pt; }
+th, td { border: 0.5pt solid #666; padding: 1.5pt 3.5pt; text-align: left; vertical-align: top; }
+th { background: #e8e8e8; font-weight: bold; }
+.num { text-align: right; font-variant-numeric: tabular-nums; } td.num { white-space: nowrap; }
+thead { display: table-header-group; } tr { break-inside: avoid; page-break-inside: avoid; }
+table.monthly, table.results, table.risk, table.sizing, table.hashes { break-inside: avoid; }
+table.results td, table.sizing td:first-child, table.risk td:first-child, table.ranking td { white-space: nowrap; }
+table.ranking td:nth-child(2) { white-space: normal; width: 48%; }
+.sub { font-size: 7pt; color: #333; }
+table.monthly { font-size: 6.6pt; } table.monthly td, table.monthly th { padding: 1pt 1.5pt; }
+table.inputs { font-size: 7.2pt; } table.inputs td:first-child { font-family: $mono; white-space: nowrap; }
+table.inputs td:nth-child(2) { word-break: break-word; max-width: 60mm; }
+table.hashes td:last-child { font-family: $mono; font-size: 6.8pt; word-break: break-all; }
+figure, .keep { margin: 6pt 0 8pt; break-inside: avoid; page-break-inside: avoid; }
+figure svg { display: block; width: 100%; height: auto; }
+figcaption { font-size: 8pt; color: #333; margin-top: 1pt; }
+.small { font-size: 8pt; color: #333; }
+ul.plain { padding-left: 12pt; } ul.plain li { margin-bottom: 3pt; }
+.caution { border-left: 3pt solid #111; padding: 0 0 0 6pt; margin: 4pt 0 6pt; break-inside: avoid; }
+.caution h3 { margin: 0 0 1pt; } .caution p { margin: 0; }
+.error { font-weight: bold; text-decoration: underline; }
+ul.errors li { margin-bottom: 3pt; }
+ol.refs { font-size: 8pt; padding-left: 16pt; } ol.refs li { margin-bottom: 1.5pt; }
+pre.site { font-family: $mono; font-size: 7pt; line-height: 1.3; white-space: pre-wrap; word-break: break-all;
+           border: 0.5pt solid #666; padding: 4pt; margin: 4pt 0; column-count: 2; column-gap: 10pt;
+           column-rule: 0.5pt solid #bbb; }
+section.appendix, section.methods { break-before: page; page-break-before: always; }
+section.spot + section.spot, section.cover + section.spot, section.spot + section.methods {
+  break-before: page; page-break-before: always; }
+a { color: inherit; }
+code { font-family: $mono; font-size: 0.95em; }
+""")
+
+PAGE = Template("""<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="generator" content="siteharvest $version">
+<title>$title</title>
+<style>$css</style>
+</head>
+<body>
+$body
+</body>
+</html>
+""")
+
+FONT = '"DejaVu Sans", "Liberation Sans", Arial, sans-serif'
+MONO = '"DejaVu Sans Mono", "Liberation Mono", monospace'
+
+
+def _css_string(text: str) -> str:
+    return text.replace("\\", "\\\\").replace('"', '\\"').replace("\n", " ")
+
+
+def page(title: str, body: str, footer: str) -> str:
+    css = CSS.substitute(font=FONT, mono=MONO, footer=_css_string(footer))
+    return PAGE.substitute(version=e(siteharvest.__version__), title=e(title), css=css, body=body)
+
+
+def generated_text(generated: dt.datetime | None = None) -> str:
+    return (generated or dt.datetime.now(dt.UTC)).astimezone(dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
+
+
+def spot_section(study: SpotStudy, n: int, svg: SvgMaker, when: str, *, portfolio: bool) -> str:
+    """One spot's section (figures through ``svg``); empty for a spot that could not be studied (a
+    portfolio lists it with its error on the cover)."""
+    if not study.ok:
+        return ""
+    return f'<section class="spot" id="spot-{n}">{spot_body(study, svg, when, with_methods=not portfolio)}</section>'
+
+
+def assemble(studies: Sequence[SpotStudy], sections: Sequence[str], *, portfolio: bool, title: str,
+             when: str) -> str:
+    """The whole document from the spots' sections."""
+    version = siteharvest.__version__
+    if not portfolio:
+        study = studies[0]
+        assert study.spec is not None
+        footer = f"siteharvest {version} · {study.spec.spot.name[:60]} · inputs {study.input_sha256[:16]}"
+        return page(f"Feasibility report: {study.spec.spot.name}", "".join(sections), footer)
+    parts = [portfolio_cover(studies, title, when), *sections, methods_section(studies)]
+    footer = f"siteharvest {version} · portfolio {title[:50]} · inputs {portfolio_sha256(studies)[:16]}"
+    return page(f"Feasibility report: {title or 'portfolio'}", "".join(parts), footer)
+
+
+def build_html(studies: Sequence[SpotStudy], svg: SvgMaker, *, portfolio: bool, title: str = "",
+               generated: dt.datetime | None = None) -> str:
+    """The whole report as one HTML document."""
+    when = generated_text(generated)
+    sections = [spot_section(s, n, svg, when, portfolio=portfolio) for n, s in enumerate(studies, 1)]
+    return assemble(studies, sections, portfolio=portfolio, title=title, when=when)

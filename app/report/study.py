@@ -1,0 +1,213 @@
+"""What the report needs for each spot: the assessment, the sizing study, the weather risk, and the
+fingerprint of the inputs. No HTML here.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from pydantic import BaseModel
+
+from siteharvest.assess import COMBINED_ID, Assessment, CaseResult, assess
+from siteharvest.errors import SiteInputError
+from siteharvest.site import SiteSpec, dump_site, load_site
+from siteharvest.sizing import ReportInterval, SizingMap, WeatherRisk, report_interval, sizing_map, weather_risk
+from siteharvest.weather import pvlib_data_dir
+
+SiteInput = str | Path | SiteSpec
+
+
+@dataclass
+class InputFile:
+    """A file the spot's results depend on, besides the site file."""
+
+    role: str
+    name: str
+    sha256: str | None  # None: the file could not be read
+
+
+@dataclass
+class SpotStudy:
+    """Everything reported about one spot; ``error`` set (and the rest empty) when it could not be studied."""
+
+    label: str
+    file: str | None
+    spec: SiteSpec | None = None
+    assessment: Assessment | None = None
+    error: str | None = None
+    site_text: str = ""
+    input_files: list[InputFile] = field(default_factory=list)
+    input_sha256: str = ""
+    maps: dict[str, SizingMap] = field(default_factory=dict)
+    intervals: dict[str, ReportInterval | None] = field(default_factory=dict)
+    sizing_error: str | None = None
+    risk: WeatherRisk | None = None
+    risk_error: str | None = None
+
+    @property
+    def ok(self) -> bool:
+        return self.assessment is not None
+
+    @property
+    def target(self) -> int:
+        return self.spec.run.target_deficit_days if self.spec is not None else 0
+
+    @property
+    def best(self) -> CaseResult | None:
+        """The best single source: fewest deficit days, then earliest first wake, then most energy."""
+        if self.assessment is None or not self.assessment.sources:
+            return None
+        return min(self.assessment.sources, key=rank_key)
+
+    def passes(self, case: CaseResult) -> bool:
+        return case.deficit_days <= self.target and math.isfinite(case.first_wake_hours)
+
+
+def rank_key(case: CaseResult) -> tuple[float, float, float]:
+    fw = case.first_wake_hours
+    return (float(case.deficit_days), fw if math.isfinite(fw) else math.inf, -float(case.annual_energy_wh))
+
+
+def expand_inputs(paths_or_specs: SiteInput | Sequence[SiteInput]) -> tuple[list[SiteInput], bool, str]:
+    """The spots to report, whether they make a portfolio, and a title for it.
+
+    A folder is a portfolio of its ``*.toml`` files (sorted by name); so is more than one input.
+    """
+    items = [paths_or_specs] if isinstance(paths_or_specs, str | Path | SiteSpec) else list(paths_or_specs)
+    out: list[SiteInput] = []
+    portfolio = len(items) > 1
+    title = ""
+    for item in items:
+        if isinstance(item, str | Path) and Path(item).is_dir():
+            files = sorted(Path(item).glob("*.toml"))
+            if not files:
+                raise SiteInputError("a folder holding site files (*.toml)", file=str(item))
+            out.extend(files)
+            portfolio = True
+            title = title or Path(item).resolve().name
+        else:
+            out.append(item)
+    if not out:
+        raise SiteInputError("at least one site file or folder")
+    return out, portfolio, title
+
+
+def _files_in(model: Any, base_dir: Path, prefix: str = "") -> list[tuple[str, Path]]:
+    """Every file a spec names (fields called ``file`` or ``*_file``), resolved against the site's folder."""
+    found: list[tuple[str, Path]] = []
+    if isinstance(model, BaseModel):
+        for name in type(model).model_fields:
+            value = getattr(model, name)
+            path = f"{prefix}.{name}" if prefix else name
+            if isinstance(value, str) and (name == "file" or name.endswith("_file")):
+                p = Path(value)
+                found.append((path, p if p.is_absolute() else base_dir / p))
+            else:
+                found.extend(_files_in(value, base_dir, path))
+    elif isinstance(model, list | tuple):
+        for i, item in enumerate(model):
+            found.extend(_files_in(item, base_dir, f"{prefix}[{i}]"))
+    return found
+
+
+def input_files(spec: SiteSpec) -> list[tuple[str, str, Path]]:
+    """(role, name as written, path) of every file the results depend on besides the site file."""
+    out = [(role, str(path.relative_to(spec.base_dir)) if path.is_relative_to(spec.base_dir) else str(path), path)
+           for role, path in _files_in(spec, spec.base_dir)]
+    if spec.weather.bundled:
+        out.insert(0, ("weather.bundled", spec.weather.bundled, pvlib_data_dir() / spec.weather.bundled))
+    return out
+
+
+def fingerprint(site_text: str, files: Iterable[tuple[str, str, Path]]) -> tuple[str, list[InputFile]]:
+    """SHA-256 over the dumped site text and the bytes of each file it names, and each file's own hash."""
+    total = hashlib.sha256()
+    total.update(b"site file\n" + site_text.encode("utf-8"))
+    listed = []
+    for role, name, path in files:
+        try:
+            data = path.read_bytes()
+        except OSError:
+            listed.append(InputFile(role, name, None))
+            total.update(f"\n{role} unreadable\n".encode())
+            continue
+        listed.append(InputFile(role, name, hashlib.sha256(data).hexdigest()))
+        total.update(f"\n{role} {name}\n".encode() + data)
+    return total.hexdigest(), listed
+
+
+def study_spot(item: SiteInput, *, sizing: bool = True, risk_years: int = 200, sizing_steps: int = 24,
+               seed: int = 1) -> SpotStudy:
+    """Load, assess, size and test one spot against resampled weather. Bad input raises SiteInputError."""
+    if isinstance(item, SiteSpec):
+        spec, file = item, item.file
+    else:
+        spec, file = load_site(item), str(item)
+    label = Path(file).name if file else spec.spot.name
+    text = dump_site(spec)
+    digest, files = fingerprint(text, input_files(spec))
+    study = SpotStudy(label=label, file=file, spec=spec, site_text=text, input_files=files, input_sha256=digest)
+    study.assessment = assess(spec)
+    prep = study.assessment.prepared
+    if sizing:
+        try:
+            for src in spec.source:
+                study.maps[src.id] = sizing_map(prep, src.id, n_harvester=sizing_steps, n_store=sizing_steps)
+            for case in study.assessment.cases:
+                if not study.passes(case):
+                    study.intervals[case.id] = report_interval(prep, case.id)
+        except SiteInputError as exc:
+            study.sizing_error = str(exc)
+    if risk_years > 0:
+        try:
+            study.risk = weather_risk(prep, years=risk_years, seed=seed)
+        except SiteInputError as exc:
+            study.risk_error = str(exc)
+    return study
+
+
+def study_spot_or_error(item: SiteInput, *, portfolio: bool, sizing: bool = True, risk_years: int = 200,
+                        sizing_steps: int = 24, seed: int = 1) -> SpotStudy:
+    """:func:`study_spot`; in a portfolio a spot with bad input comes back with its one-line error."""
+    try:
+        return study_spot(item, sizing=sizing, risk_years=risk_years, sizing_steps=sizing_steps, seed=seed)
+    except SiteInputError as exc:
+        if not portfolio:
+            raise
+        name = Path(item).name if isinstance(item, str | Path) else item.spot.name
+        return SpotStudy(label=name, file=str(item) if isinstance(item, str | Path) else None, error=str(exc))
+
+
+def study_spots(items: Sequence[SiteInput], *, portfolio: bool, sizing: bool = True, risk_years: int = 200,
+                sizing_steps: int = 24, seed: int = 1) -> list[SpotStudy]:
+    """Study each spot; in a portfolio a spot with bad input is kept with its one-line error."""
+    return [study_spot_or_error(item, portfolio=portfolio, sizing=sizing, risk_years=risk_years,
+                                sizing_steps=sizing_steps, seed=seed) for item in items]
+
+
+def ranked(studies: Sequence[SpotStudy]) -> list[SpotStudy]:
+    """Spots best first by their best source; spots that could not be studied last, in input order."""
+    good = sorted((s for s in studies if s.ok and s.best is not None), key=lambda s: rank_key(s.best))
+    return good + [s for s in studies if not (s.ok and s.best is not None)]
+
+
+def portfolio_sha256(studies: Sequence[SpotStudy]) -> str:
+    total = hashlib.sha256()
+    for s in studies:
+        total.update(f"{s.label}\n{s.input_sha256 or s.error}\n".encode())
+    return total.hexdigest()
+
+
+def case_label(case: CaseResult) -> str:
+    return "all sources together" if case.id == COMBINED_ID else case.id
+
+
+def drawn_cell(m: SizingMap) -> tuple[int, int]:
+    return (int(np.argmin(np.abs(m.harvester_sizes - m.harvester_drawn))),
+            int(np.argmin(np.abs(m.store_sizes - m.store_drawn))))
