@@ -23,7 +23,7 @@ from siteharvest.errors import SiteInputError
 from siteharvest.site import dump_site, parse_site, parse_site_text
 from siteharvest.vibration_spectrum import read_spectrum_csv
 
-from . import ids
+from . import callbacks_study, ids
 from .editor import render_editor
 from .engine import (
     assessment_for,
@@ -515,3 +515,5 @@ def register(app: dash.Dash) -> None:
         State(ids.PORTFOLIO_TABLE, "derived_virtual_data"),
         prevent_initial_call=True,
     )(open_from_portfolio)
+
+    callbacks_study.register(app)

@@ -17,6 +17,11 @@ SITE_UPLOAD = "sh-site-upload"
 SITE_UPLOAD_MSG = "sh-site-upload-msg"
 SITE_DOWNLOAD_BUTTON = "sh-site-download-button"
 SITE_DOWNLOAD = "sh-site-download"
+REPORT_PDF_BUTTON = "sh-report-pdf-button"
+REPORT_HTML_BUTTON = "sh-report-html-button"
+REPORT_DOWNLOAD = "sh-report-download"
+REPORT_MSG = "sh-report-msg"  # one line when the report could not be made
+REPORT_BUSY = "sh-report-busy"  # "preparing the report" while it runs
 
 # editor
 EDITOR = "sh-editor"
@@ -48,11 +53,29 @@ PORTFOLIO = "sh-portfolio"
 PORTFOLIO_TABLE = "sh-portfolio-table"
 LOAD_ERRORS = "sh-load-errors"
 
+# what it takes (sizing) and weather risk
+FIG_SIZING = "sh-fig-sizing"
+SIZING_TEXT = "sh-sizing-text"
+SIZING_TARGET = "sh-sizing-target"  # target deficit days to try (starts at the spot's own)
+SIZING_TARGET_FROM = "sh-sizing-target-from"  # store: [spot key, its target] the input was last set from
+RISK_YEARS = "sh-risk-years"
+RISK_SEED = "sh-risk-seed"
+RISK_OUTAGE_RATE = "sh-risk-outage-rate"
+RISK_OUTAGE_DAYS = "sh-risk-outage-days"
+RISK_OUTAGE_NOTE = "sh-risk-outage-note"
+RISK_MSG = "sh-risk-msg"
+RISK_TABLE = "sh-risk-table"
+FIG_RISK = "sh-fig-risk"  # the chosen source
+FIG_RISK_ALL = "sh-fig-risk-all"  # all sources together
+RISK_ALL_WRAP = "sh-fig-risk-all-wrap"  # hidden when the chosen case is already all together
+
 # tab values
 TAB_SOURCES = "tab-sources"
 TAB_YEAR = "tab-year"
 TAB_CALENDAR = "tab-calendar"
 TAB_WEEK = "tab-week"
+TAB_SIZING = "tab-sizing"
+TAB_RISK = "tab-risk"
 TAB_PORTFOLIO = "tab-portfolio"
 
 

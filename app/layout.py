@@ -10,6 +10,7 @@ from dash import dash_table, dcc, html
 from . import ids
 from .editor import render_editor
 from .figures import empty_figure
+from .layout_study import report_buttons, report_message, risk_tab, sizing_tab
 from .tables import PORTFOLIO_COLUMNS, VERDICT_CLASS, VERDICT_MEANING
 
 FONT_STACK = ('system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "Noto Sans", "Liberation Sans", '
@@ -66,8 +67,10 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
             html.Button("Save as site file", id=ids.SITE_DOWNLOAD_BUTTON, n_clicks=0, className="sh-button",
                         type="button"),
             dcc.Download(id=ids.SITE_DOWNLOAD),
+            *report_buttons(),
         ]),
         html.Div(id=ids.SITE_UPLOAD_MSG, className="sh-msg sh-top-msg", role="alert"),
+        report_message(),
     ])
     editor = html.Aside(className="sh-editor-pane", children=[
         html.H2("The spot"),
@@ -87,7 +90,7 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
         html.Div([_legend(), html.Div(id=ids.NOTES, className="sh-notes")], className="sh-under-table"),
         html.Div(id=ids.CAUTIONS, className="sh-cautions"),
         html.Div(className="sh-view-row sh-case-row", children=[
-            html.Label("Source shown in the year, calendar and week views", htmlFor=ids.CASE_PICKER,
+            html.Label("Source shown in the year, calendar, week, sizing and risk views", htmlFor=ids.CASE_PICKER,
                        className="sh-view-label"),
             dcc.Dropdown(id=ids.CASE_PICKER, options=[], value=None, clearable=False, searchable=False,
                          className="sh-case-picker"),
@@ -120,6 +123,8 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
                 dcc.Loading(type="circle", color="#0072B2", delay_show=250,
                             children=_graph(ids.FIG_WEEK, "the week appears here", 520)),
             ]),
+            sizing_tab(),
+            risk_tab(),
             dcc.Tab(label="Portfolio", value=ids.TAB_PORTFOLIO, className="sh-tab", selected_className="sh-tab-on",
                     children=[
                 html.P("Every loaded spot with its best source (fewest deficit days, then earliest first wake, "

@@ -1,0 +1,468 @@
+"""Callbacks of the study views: what it takes (sizing map), weather risk, and the report download.
+
+Plain functions over the stores' contents, registered by :func:`register` (called from
+:func:`app.callbacks.register`). The sizing and risk views compute only while their tab is open, and
+their results are memoised by the spot's content (the site dict, its folder and the digests of the
+files it names) plus the view's own inputs, like the engine's assessment cache.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import copy
+import logging
+import math
+import re
+import tempfile
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import dash
+import numpy as np
+from dash import Input, Output, State, dcc, html, no_update
+from dash.exceptions import PreventUpdate
+
+from siteharvest.assess import COMBINED_ID, Assessment, CaseResult
+from siteharvest.errors import SiteInputError
+from siteharvest.site import SiteSpec, parse_site
+from siteharvest.sizing import (
+    OUTAGE_KINDS,
+    ReportInterval,
+    SizingMap,
+    WeatherRisk,
+    report_interval,
+    sizing_map,
+    weather_risk,
+)
+
+from . import ids
+from .engine import (
+    MemoCache,
+    _key,
+    assessment_for,
+    clean_message,
+    file_refs,
+    get_in,
+    materialise,
+    resolve_record,
+    set_in,
+)
+from .figures import empty_figure, find_case
+from .figures_sizing import SIZE_LABELS, risk_histogram, sizing_heatmap
+from .layout_study import (
+    OUTAGE_DAYS_MAX,
+    OUTAGE_DAYS_MIN,
+    OUTAGE_RATE_MAX,
+    RISK_YEARS_MAX,
+    RISK_YEARS_MIN,
+)
+
+log = logging.getLogger(__name__)
+Trigger = tuple[Any, Any]
+
+SIZING_STEPS = 24  # sizes per axis of the dashboard's map (the CLI's default is 40)
+REPORT_SIZING_STEPS = 16  # modest settings: the report of one spot in a few seconds
+REPORT_RISK_YEARS = 100
+MAX_TARGET_DAYS = 365
+
+SIZING_STUDIES = MemoCache(16)  # (sizing map, report interval), by spot content, case, target and steps
+RISK_STUDIES = MemoCache(8)  # weather risks, by spot content and the risk inputs
+
+
+def content_key(record: dict[str, Any], files: dict[str, str] | None) -> str:
+    """The key the engine caches the spot's assessment under: site dict, folder and file digests."""
+    resolved = resolve_record(record, files)
+    return _key(resolved.site, str(resolved.base_dir), resolved.digests)
+
+
+def _problem(exc: Exception) -> str:
+    text = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+    return clean_message(text)
+
+
+def _whole(value: Any, low: int, high: int | None) -> int | None:
+    """``value`` as a whole number within [low, high], else None."""
+    if isinstance(value, bool) or not isinstance(value, int | float) or not math.isfinite(value):
+        return None
+    if value != round(value) or value < low or (high is not None and value > high):
+        return None
+    return round(value)
+
+
+def _number(value: Any, low: float, high: float) -> float | None:
+    if isinstance(value, bool) or not isinstance(value, int | float) or not math.isfinite(value):
+        return None
+    return float(value) if low <= value <= high else None
+
+
+def _case_name(case_id: str) -> str:
+    return "all sources together" if case_id == COMBINED_ID else case_id
+
+
+def _not_simulated(exc: Exception) -> html.Div:
+    return html.Div([html.Strong("This spot cannot be simulated yet: "), _problem(exc)], className="sh-status-bad",
+                    role="alert")
+
+
+# --------------------------------------------------------------------------------------------------
+# what it takes
+
+
+def sync_target(key: str, spots: dict[str, Any], shown_for: list[Any] | None) -> tuple[int, list[Any]]:
+    """Put the spot's own target into the "try another target" input when the spot or its target changes.
+
+    Returns (input value, [spot key, target] it was set from); a target typed by hand stays until then.
+    """
+    if not spots or key not in spots:
+        raise PreventUpdate
+    target = int(((spots[key]["site"].get("run") or {}).get("target_deficit_days")) or 0)
+    if shown_for is not None and list(shown_for) == [key, target]:
+        raise PreventUpdate
+    return target, [key, target]
+
+
+def sizing_study(a: Assessment, record: dict[str, Any], files: dict[str, str] | None, case_id: str,
+                 target: int) -> tuple[SizingMap | None, ReportInterval | None]:
+    """The sizing map (single sources only) and the fastest sustainable reporting, memoised."""
+    def make() -> tuple[SizingMap | None, ReportInterval | None]:
+        prep = a.prepared
+        m = None if case_id == COMBINED_ID else sizing_map(prep, case_id, n_harvester=SIZING_STEPS,
+                                                             n_store=SIZING_STEPS, max_deficit_days=target)
+        return m, report_interval(prep, case_id, max_deficit_days=target)
+
+    key = _key("sizing", content_key(record, files), case_id, target, SIZING_STEPS)
+    return SIZING_STUDIES.get_or_make(key, make)
+
+
+def _size(value: float, unit: str, field: str = "") -> str:
+    from .report.html import fmt_size
+
+    return fmt_size(value, unit, field)
+
+
+def _interval(seconds: float) -> str:
+    from .report.html import fmt_interval_s
+
+    return fmt_interval_s(seconds)
+
+
+def sizing_words(a: Assessment, case: CaseResult, m: SizingMap | None, iv: ReportInterval | None,
+                 target: int) -> list[Any]:
+    """The plain-words lines under the sizing map: target, pick (or none), edge, fastest reporting."""
+    own = a.spec.run.target_deficit_days
+    meets = case.deficit_days <= target
+    lines: list[Any] = [html.P([
+        f"As drawn, {_case_name(case.id)} has {case.deficit_days} deficit day"
+        f"{'s' if case.deficit_days != 1 else ''} a year: it ",
+        html.Strong("meets" if meets else "misses", className="sh-good" if meets else "sh-bad"),
+        f" the target of at most {target}" + ("." if target == own else f" (tried here; the spot's own is {own})."),
+    ])]
+    if case.id == COMBINED_ID:
+        lines.append(html.P("The sizing map varies one source's harvester and the store: choose a single source "
+                            "above to see it."))
+    elif m is not None and m.pick is not None:
+        i, j = m.pick
+        h_name = SIZE_LABELS.get(m.harvester_field, m.harvester_field).lower()
+        s_name = SIZE_LABELS.get(m.store_field, m.store_field).lower()
+        fw = m.first_wake_hours[i, j]
+        wake = f"first wake after {fw:,.0f} h" if math.isfinite(fw) else "no wake within 90 days"
+        edge = (" This sits at the edge of the map: smaller may pass too." if m.pick_at_edge else "")
+        lines.append(html.P([
+            "The pick (least harvester, then least store, that meets it): ",
+            html.Strong(_harvester_words(m, i, h_name)), " with ",
+            html.Strong(f"{s_name} {_size(m.store_sizes[j], m.store_unit)}"),
+            f" ({int(m.deficit_days[i, j])} deficit days, {wake}).{edge}",
+        ], className="sh-pick"))
+        if bigger_store_misses(m):
+            lines.append(html.P("Past a point a bigger store does worse here: it leaks more and takes longer to "
+                                "charge up to its turn-on voltage.", className="sh-note"))
+    elif m is not None:
+        fewest = int(m.deficit_days.min())
+        top = (f"{_size(m.harvester_sizes[-1], m.harvester_unit, m.harvester_field)} and "
+               f"{_size(m.store_sizes[-1], m.store_unit)}")
+        lines.append(html.P([html.Strong("Nothing in this map meets the target"),
+                             f": the fewest deficit days in it are {fewest} (the map goes up to {top})."],
+                            className="sh-pick"))
+    lines.append(html.P(_interval_words(a, iv)))
+    return lines
+
+
+def _harvester_words(m: SizingMap, i: int, name: str) -> str:
+    """``cell area 6.17 cm²``; counts name their thing once: ``2 thermoelectric modules``."""
+    n = m.harvester_sizes[i]
+    if m.harvester_field == "modules":
+        return f"{n:.3g} thermoelectric module{'' if n == 1 else 's'}"
+    return f"{name} {_size(n, m.harvester_unit, m.harvester_field)}"
+
+
+def bigger_store_misses(m: SizingMap) -> bool:
+    """Some harvester size meets the target with one store but misses it with a larger one."""
+    meets = m.deficit_days <= m.target_deficit_days
+    first = np.where(meets.any(axis=1), meets.argmax(axis=1), meets.shape[1])
+    later = np.arange(meets.shape[1])[None, :] > first[:, None]
+    return bool((later & ~meets).any())
+
+
+def _interval_words(a: Assessment, iv: ReportInterval | None) -> list[Any]:
+    if iv is None:
+        return ["The node has no task whose interval could change."]
+    task = next((t for t in a.spec.node.task if t.name == iv.task), None)
+    floor_s = max(task.duration_ms / 1000.0 * 1.001, 1.0) if task is not None else 1.0
+    drawn = f" (drawn: every {_interval(iv.drawn_every_s)})"
+    if iv.shortest_every_s is None:
+        return [f"Fastest sustainable reporting with the drawn harvester and store: none; even once a week "
+                f"'{iv.task}' misses the target{drawn}."]
+    if iv.shortest_every_s <= floor_s * (1 + 1e-9):
+        return ["Fastest sustainable reporting with the drawn harvester and store: '", iv.task, "' every ",
+                html.Strong(f"{_interval(iv.shortest_every_s)} or faster"),
+                f" (drawn: every {_interval(iv.drawn_every_s)}; the search goes no faster)."]
+    return ["Fastest sustainable reporting with the drawn harvester and store: '", iv.task, "' every ",
+            html.Strong(_interval(iv.shortest_every_s)), f"{drawn}."]
+
+
+SHOWN = {"height": "520px"}
+HIDDEN = {"display": "none"}
+
+
+def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[str, Any], key: str,
+                files: dict[str, str] | None) -> tuple[Any, Any, Any]:
+    """The sizing map of the chosen source and its plain-words line (only while the tab is open).
+
+    Returns (figure, words, style of the figure: hidden when there is no map to draw).
+    """
+    if tab != ids.TAB_SIZING or not spots or key not in spots:
+        raise PreventUpdate
+    record = spots[key]
+    try:
+        a = assessment_for(record, files)
+    except (SiteInputError, ValueError) as exc:
+        return empty_figure("no sizing map", 520), _not_simulated(exc), HIDDEN
+    t = a.spec.run.target_deficit_days if target is None else _whole(target, 0, MAX_TARGET_DAYS)
+    if t is None:
+        return no_update, html.P(f"The target must be a whole number of deficit days from 0 to {MAX_TARGET_DAYS}.",
+                                 className="sh-msg"), no_update
+    case = find_case(a, case_id)
+    try:
+        m, iv = sizing_study(a, record, files, case.id, t)
+    except (SiteInputError, ValueError, KeyError) as exc:
+        return (empty_figure("no sizing map", 520),
+                html.P(f"The sizing study could not be run: {_problem(exc)}", className="sh-msg"), HIDDEN)
+    words = sizing_words(a, case, m, iv, t)
+    if m is None:
+        return empty_figure("choose a single source above to see its sizing map", 520), words, HIDDEN
+    return sizing_heatmap(m), words, SHOWN
+
+
+# --------------------------------------------------------------------------------------------------
+# weather risk
+
+
+def outage_note(a: Assessment) -> str:
+    hit = [s.id for s in a.spec.source if s.kind in OUTAGE_KINDS]
+    if not hit:
+        return "Outages stop heat and vibration sources only; this spot has none, so they change nothing here."
+    return f"Outages stop the heat and vibration sources ({', '.join(hit)}); the other sources run on."
+
+
+def risk_study(a: Assessment, record: dict[str, Any], files: dict[str, str] | None, years: int, seed: int,
+               rate: float, mean_days: float) -> WeatherRisk:
+    """Deficit days over resampled years for every case (memoised)."""
+    if not any(s.kind in OUTAGE_KINDS for s in a.spec.source):
+        rate = 0.0  # outages act on nothing: share the entry
+    key = _key("risk", content_key(record, files), years, seed, rate, mean_days)
+    return RISK_STUDIES.get_or_make(key, lambda: weather_risk(a.prepared, years=years, seed=seed,
+                                                              outage_rate_per_year=rate, outage_mean_days=mean_days))
+
+
+def fmt_days(value: float) -> str:
+    """Deficit days as read in the table: whole numbers plain, percentiles between years to 0.1 day."""
+    text = f"{value:.1f}"
+    return text[:-2] if text.endswith(".0") else text
+
+
+def fmt_chance(value: float) -> str:
+    return f"{100 * value:.3g}%"
+
+
+RISK_COLUMNS = (("source", "Source", ""), ("reference", "Reference year", "days/yr"), ("p50", "P50", "days/yr"),
+                ("p90", "P90", "days/yr"), ("p99", "P99", "days/yr"),
+                ("chance_any", "Years with any deficit day", "%"))
+
+
+def risk_table(a: Assessment, risk: WeatherRisk, chosen: str) -> html.Table:
+    head = html.Thead(html.Tr([html.Th([title, html.Span(f" [{unit}]", className="sh-th-unit") if unit else None],
+                                       className=f"sh-col-{col}") for col, title, unit in RISK_COLUMNS]))
+    rows = []
+    for case in a.cases:
+        s = risk.summary(case.id)
+        cells = [html.Td(_case_name(case.id), className="sh-col-source"),
+                 html.Td(str(case.deficit_days), className="sh-col-reference"),
+                 *[html.Td(fmt_days(s[k]), className=f"sh-col-{k}") for k in ("p50", "p90", "p99")],
+                 html.Td(fmt_chance(s["chance_any"]), className="sh-col-chance_any")]
+        cls = " ".join(c for c in ("sh-row-combined" if case.id == COMBINED_ID else "",
+                                   "sh-row-chosen" if case.id == chosen else "") if c)
+        rows.append(html.Tr(cells, className=cls or None, **{"data-case": case.id}))
+    caption = html.Caption(f"Deficit days over {risk.years} resampled years (seed {risk.seed}); P90: nine years "
+                           "in ten have at most this many.")
+    return html.Table([caption, head, html.Tbody(rows)], className="sh-table sh-risk")
+
+
+def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate: Any, mean_days: Any,
+              spots: dict[str, Any], key: str, files: dict[str, str] | None) -> tuple[Any, ...]:
+    """Deficit days over resampled years, for the chosen source and all together (only while the tab is open).
+
+    Returns (table, figure of the chosen source, figure of all together, style of the latter's box, message line,
+    note on outages).
+    """
+    if tab != ids.TAB_RISK or not spots or key not in spots:
+        raise PreventUpdate
+    record = spots[key]
+    try:
+        a = assessment_for(record, files)
+    except (SiteInputError, ValueError) as exc:
+        blank = empty_figure("no weather risk: see the message", 420)
+        return _not_simulated(exc), blank, blank, {"display": "none"}, "", ""
+    problems = []
+    n_years = _whole(years, RISK_YEARS_MIN, RISK_YEARS_MAX)
+    if n_years is None:
+        problems.append(f"years: a whole number from {RISK_YEARS_MIN} to {RISK_YEARS_MAX}")
+    n_seed = _whole(seed, 0, None)
+    if n_seed is None:
+        problems.append("seed: a whole number, 0 or more")
+    n_rate = _number(rate, 0.0, OUTAGE_RATE_MAX)
+    if n_rate is None:
+        problems.append(f"outages: from 0 to {OUTAGE_RATE_MAX:g} a year")
+    n_days = _number(mean_days, OUTAGE_DAYS_MIN, OUTAGE_DAYS_MAX)
+    if n_days is None:
+        problems.append(f"mean outage length: from {OUTAGE_DAYS_MIN:g} to {OUTAGE_DAYS_MAX:g} days")
+    if problems:
+        message = "Showing the last good result; " + "; ".join(problems) + "."
+        return no_update, no_update, no_update, no_update, message, outage_note(a)
+    assert n_years is not None and n_seed is not None and n_rate is not None and n_days is not None
+    case = find_case(a, case_id)
+    try:
+        risk = risk_study(a, record, files, n_years, n_seed, n_rate, n_days)
+    except (SiteInputError, ValueError) as exc:
+        blank = empty_figure("no weather risk", 420)
+        return [], blank, blank, {"display": "none"}, f"The weather risk could not be run: {_problem(exc)}", ""
+    fig = risk_histogram(risk, case.id)
+    both = risk_histogram(risk, COMBINED_ID)
+    style = {"display": "none"} if case.id == COMBINED_ID else {}
+    return risk_table(a, risk, case.id), fig, both, style, "", outage_note(a)
+
+
+# --------------------------------------------------------------------------------------------------
+# report
+
+
+@contextlib.contextmanager
+def report_spec(record: dict[str, Any], files: dict[str, str] | None) -> Iterator[SiteSpec]:
+    """The spot as a SiteSpec whose files carry the names its site file gives them.
+
+    A private temporary folder stands in for the spot's folder while the report is made: uploads are
+    written into it under their names, files on disk are linked from their own folder, so the report lists
+    and hashes the files as the user knows them. The folder is removed afterwards.
+    """
+    files = files or {}
+    site = copy.deepcopy(record["site"])
+    base = Path(record.get("base_dir") or Path.cwd())
+    uploads: dict[str, str] = record.get("files") or {}
+    with tempfile.TemporaryDirectory(prefix="siteharvest-report-") as tmp:
+        root = Path(tmp).resolve()
+        for ref in file_refs(site):
+            name = str(get_in(site, ref))
+            if Path(name).is_absolute():
+                continue  # named in full: read where it is
+            sha = uploads.get(name)
+            source = materialise(name, files[sha]) if sha is not None and sha in files else base / name
+            place = (root / name).resolve()
+            if not place.is_relative_to(root) or place == root:
+                set_in(site, ref, str(source.resolve()))
+                continue
+            if not place.exists():
+                place.parent.mkdir(parents=True, exist_ok=True)
+                place.symlink_to(source.resolve())
+        spec = parse_site(site, file=record.get("file") or "<site>", base_dir=root)
+        yield spec
+
+
+def _without_report_folder(text: str) -> str:
+    """Drop the private folder of :func:`report_spec` from a message: the files keep the names the user gave."""
+    return re.sub(re.escape(str(Path(tempfile.gettempdir()).resolve())) + r"[/\\]siteharvest-report-[^/\\]+[/\\]",
+                  "", text)
+
+
+def _report_filename(record: dict[str, Any], key: str, fmt: str) -> str:
+    stem = Path(record.get("file") or key).stem or "spot"
+    return f"{stem}-report.{fmt}"
+
+
+def download_report(pdf_clicks: int | None, html_clicks: int | None, key: str, spots: dict[str, Any],
+                    files: dict[str, str] | None, *, trigger: Trigger | None = None) -> tuple[Any, str]:
+    """The report of the current spot (the last good values and its uploads), as PDF or HTML bytes.
+
+    Returns (dcc.Download data, message line). A failure leaves the download alone and says why in one line.
+    """
+    which = trigger[0] if trigger is not None else _triggered_id()
+    if which not in (ids.REPORT_PDF_BUTTON, ids.REPORT_HTML_BUTTON) or key not in (spots or {}):
+        raise PreventUpdate
+    clicks = pdf_clicks if which == ids.REPORT_PDF_BUTTON else html_clicks
+    if not clicks:
+        raise PreventUpdate
+    fmt = "pdf" if which == ids.REPORT_PDF_BUTTON else "html"
+    record = spots[key]
+    from . import report
+
+    try:
+        with report_spec(record, files) as spec:
+            content = report.build_report(spec, fmt=fmt, sizing_steps=REPORT_SIZING_STEPS,
+                                          risk_years=REPORT_RISK_YEARS)
+    except (report.ReportError, SiteInputError, ValueError, OSError) as exc:
+        log.warning("report of %s failed: %s", key, exc)
+        return no_update, f"The report could not be made: {_without_report_folder(_problem(exc))}"
+    kind = "application/pdf" if fmt == "pdf" else "text/html"
+    return dcc.send_bytes(content, _report_filename(record, key, fmt), type=kind), ""
+
+
+def _triggered_id() -> Any:
+    try:
+        return dash.ctx.triggered_id
+    except Exception:  # called outside a Dash request
+        return None
+
+
+# --------------------------------------------------------------------------------------------------
+
+
+def register(app: dash.Dash) -> None:
+    """Wire the study views and the report buttons to ``app``."""
+    app.callback(
+        Output(ids.SIZING_TARGET, "value"), Output(ids.SIZING_TARGET_FROM, "data"),
+        Input(ids.SPOT_PICKER, "value"), Input(ids.SPOTS, "data"), State(ids.SIZING_TARGET_FROM, "data"),
+    )(sync_target)
+
+    app.callback(
+        Output(ids.FIG_SIZING, "figure"), Output(ids.SIZING_TEXT, "children"), Output(ids.FIG_SIZING, "style"),
+        Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.SIZING_TARGET, "value"),
+        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.FILES, "data"),
+    )(sizing_view)
+
+    app.callback(
+        Output(ids.RISK_TABLE, "children"), Output(ids.FIG_RISK, "figure"), Output(ids.FIG_RISK_ALL, "figure"),
+        Output(ids.RISK_ALL_WRAP, "style"), Output(ids.RISK_MSG, "children"),
+        Output(ids.RISK_OUTAGE_NOTE, "children"),
+        Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.RISK_YEARS, "value"),
+        Input(ids.RISK_SEED, "value"), Input(ids.RISK_OUTAGE_RATE, "value"), Input(ids.RISK_OUTAGE_DAYS, "value"),
+        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.FILES, "data"),
+    )(risk_view)
+
+    app.callback(
+        Output(ids.REPORT_DOWNLOAD, "data"), Output(ids.REPORT_MSG, "children"),
+        Input(ids.REPORT_PDF_BUTTON, "n_clicks"), Input(ids.REPORT_HTML_BUTTON, "n_clicks"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        running=[(Output(ids.REPORT_PDF_BUTTON, "disabled"), True, False),
+                 (Output(ids.REPORT_HTML_BUTTON, "disabled"), True, False),
+                 (Output(ids.REPORT_BUSY, "children"), "Preparing the report…", "")],
+        prevent_initial_call=True,
+    )(download_report)
