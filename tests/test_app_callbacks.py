@@ -21,6 +21,7 @@ from dash import no_update
 from dash._callback_context import context_value
 from dash._utils import AttributeDict
 from dash.exceptions import PreventUpdate
+from shared import BASE_SITE
 
 from app import callbacks as cb
 from app import figures, ids
@@ -32,40 +33,8 @@ from siteharvest.sources.solar import TECHNOLOGY_PRESETS
 
 ROOT = Path(__file__).resolve().parents[1]
 
-FOUR_SOURCES = """
-[spot]
-name = "four-source check spot"
-latitude_deg = 45.0
-longitude_deg = 7.0
-utc_offset_h = 1
-mounting_height_m = 2.5
-
-[weather.synthetic]
-monthly_clearness = [0.35, 0.4, 0.45, 0.5, 0.52, 0.55, 0.58, 0.55, 0.5, 0.43, 0.36, 0.33]
-seed = 7
-
-[node]
-supply_v = 3.0
-sleep_current_ua = 2.0
-[[node.task]]
-name = "read and send"
-current_ma = 8.0
-duration_ms = 50
-every_s = 300
-
-[store]
-kind = "supercapacitor"
-capacitance_f = 1.0
-max_v = 5.0
-cutoff_v = 2.2
-turn_on_v = 3.0
-
-[[source]]
-id = "panel"
-kind = "solar"
-area_cm2 = 3.0
-tilt_deg = 45
-
+FOUR_SOURCES = BASE_SITE.replace('name = "test spot"', 'name = "four-source check spot"').replace(
+    "utc_offset_h = 1\n", "utc_offset_h = 1\nmounting_height_m = 2.5\n") + """
 [[source]]
 id = "lamp-cell"
 kind = "indoor_light"

@@ -24,6 +24,7 @@ from dash import no_update
 from dash._callback_context import context_value
 from dash._utils import AttributeDict
 from dash.exceptions import PreventUpdate
+from shared import BASE_SITE
 
 from app import callbacks as cb
 from app import callbacks_study as cs
@@ -37,42 +38,8 @@ from siteharvest.sizing import report_interval, sizing_map, weather_risk
 ROOT = Path(__file__).resolve().parents[1]
 
 # A panel and a warm pipe on a seeded synthetic year (the pipe is a heat source: outages act on it).
-STUDY_SITE = """
-[spot]
-name = "study check spot"
-latitude_deg = 45.0
-longitude_deg = 7.0
-utc_offset_h = 1
-
-[weather.synthetic]
-monthly_clearness = [0.35, 0.4, 0.45, 0.5, 0.52, 0.55, 0.58, 0.55, 0.5, 0.43, 0.36, 0.33]
-seed = 7
-
-[node]
-supply_v = 3.0
-sleep_current_ua = 2.0
-[[node.task]]
-name = "read and send"
-current_ma = 8.0
-duration_ms = 50
-every_s = 300
-
-[store]
-kind = "supercapacitor"
-capacitance_f = 1.0
-max_v = 5.0
-cutoff_v = 2.2
-turn_on_v = 3.0
-
-[run]
-target_deficit_days = 2
-
-[[source]]
-id = "panel"
-kind = "solar"
-area_cm2 = 3.0
-tilt_deg = 45
-
+STUDY_SITE = BASE_SITE.replace('name = "test spot"', 'name = "study check spot"').replace(
+    "[[source]]", "[run]\ntarget_deficit_days = 2\n\n[[source]]", 1) + """
 [[source]]
 id = "pipe"
 kind = "thermoelectric"
