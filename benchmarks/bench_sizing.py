@@ -45,24 +45,23 @@ def main() -> None:
     h_sizes, h_name, _, _ = harvester_sizes(spec, 40)
     s_sizes, s_name, _, _ = store_sizes(prep.spec.store, 40)
     harvest = _harvest_at_sizes(prep, 0, h_sizes, h_name)
-    demand, allowed = np.tile(prep.demand_j, 2), np.tile(prep.charge_allowed, 2)
+    demand, allowed = prep.demand_j, prep.charge_allowed
     levels = [store_levels(resized_store(prep.spec.store, s_name, v), cold_start_until_v=harvest.cold_start_until_v,
                            quiescent_w=harvest.quiescent_w) for v in s_sizes]
     sample = [(i, j) for i in range(0, len(h_sizes), 8) for j in range(0, len(s_sizes), 8)]
 
     def one_by_one() -> None:
         for i, j in sample:
-            simulate(np.tile(harvest.running_w[i], 2)[None, :] * SECONDS_PER_HOUR, demand,
-                     StoreArrays.stack([levels[j]]),
-                     cold_harvest_j=np.tile(harvest.cold_w[i], 2)[None, :] * SECONDS_PER_HOUR,
-                     charge_allowed=allowed, min_from=8760)
+            simulate(harvest.running_w[i][None, :] * SECONDS_PER_HOUR, demand, StoreArrays.stack([levels[j]]),
+                     cold_harvest_j=harvest.cold_w[i][None, :] * SECONDS_PER_HOUR, charge_allowed=allowed,
+                     steady_year=True)
 
     loop_s = timed(one_by_one, repeat=1) / len(sample) * len(h_sizes) * len(s_sizes)
     rows = np.repeat(np.arange(len(h_sizes)), len(s_sizes))
     store_arr = StoreArrays.stack([levels[j] for _ in h_sizes for j in range(len(s_sizes))])
-    vector_s = timed(lambda: simulate(np.tile(harvest.running_w, 2) * SECONDS_PER_HOUR, demand, store_arr,
-                                      cold_harvest_j=np.tile(harvest.cold_w, 2) * SECONDS_PER_HOUR,
-                                      charge_allowed=allowed, harvest_rows=rows, min_from=8760))
+    vector_s = timed(lambda: simulate(harvest.running_w * SECONDS_PER_HOUR, demand, store_arr,
+                                      cold_harvest_j=harvest.cold_w * SECONDS_PER_HOUR, charge_allowed=allowed,
+                                      harvest_rows=rows, steady_year=True))
     print(f"steady-state map in one kernel call: {vector_s * 1e3:.0f} ms; one kernel call per configuration: "
           f"{loop_s:.1f} s (extrapolated from {len(sample)}), {loop_s / vector_s:.1f}x")
 

@@ -88,6 +88,47 @@ def _table(x: np.ndarray | float | bool, n_hours: int, dtype: type = float) -> n
     return np.require(arr, dtype=dtype, requirements=["C", "W"])
 
 
+@njit(inline="always", nogil=True)
+def _hour(h_run_v, h_cold_v, d_sched, charge_ok, e, on, c_cut, c_full, c_on, c_cold, c_eff, c_a, c_b, c_c,
+          c_forced):  # pragma: no cover - compiled
+    """One hour of one configuration: the rules of the module docstring, in one place.
+
+    Returns the store after the hour, the node state for the next hour, whether demand ran short,
+    and the hour's flows (harvest, direct, drawn, unmet, stored, charge loss, spilled, leaked) [J].
+    """
+    h = h_cold_v if e < c_cold else h_run_v
+    d = d_sched if on else 0.0
+    direct = min(h, d)
+    need = d - direct
+    draw = min(need, max(e - c_cut, 0.0))
+    unmet = need - draw
+    e -= draw
+    surplus = h - direct
+    offer = surplus * c_eff if charge_ok else 0.0
+    stored = min(offer, c_full - e)
+    if stored < 0.0:
+        stored = 0.0
+    e += stored
+    leak = c_a * e
+    if e >= c_cold:
+        leak += c_c
+    if c_b > 0.0:
+        leak += c_b * np.sqrt(e)
+    if leak > e:
+        leak = e
+    e -= leak
+    short = unmet > 1e-12
+    # on stays on while nothing ran short; otherwise (off, or just cut off) it runs next hour only
+    # from the turn-on level up
+    on_next = on
+    if not on or short:
+        on_next = e >= c_on
+    if c_forced:
+        on_next = True
+    loss = stored / c_eff - stored
+    return e, on_next, short, h, direct, draw, unmet, stored, loss, surplus - stored - loss, leak
+
+
 @njit(cache=True, nogil=True, parallel=True)
 def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
          leak_a, leak_b, leak_c, min_from, hourly, stop_when_on, daily_only, on_rec, short_rec, dark_day_rec,
@@ -100,77 +141,119 @@ def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on,
         r = rows[k]
         kd = k - k if shared_dem else k  # same integer type as k
         ka = k - k if shared_allowed else k
-        # this configuration's constants, read once
         c_cut, c_full, c_on, c_cold = cut[k], full[k], turn_on[k], cold_lvl[k]
         c_eff, c_a, c_b, c_c, c_forced = eff[k], leak_a[k], leak_b[k], leak_c[k], forced[k]
         e = e0[k]
         on = on0[k] or c_forced
         lowest = np.inf
-        t_h = t_dir = t_draw = t_unmet = t_store = t_loss = t_spill = t_leak = 0.0
+        flows = np.zeros(8)
         for t in range(n_hours):
-            h = h_cold[r, t] if e < c_cold else h_run[r, t]
-            d = dem[kd, t] if on else 0.0
-            direct = min(h, d)
-            need = d - direct
-            draw = min(need, max(e - c_cut, 0.0))
-            unmet = need - draw
-            e -= draw
-            surplus = h - direct
-            offer = surplus * c_eff if allowed[ka, t] else 0.0
-            stored = min(offer, c_full - e)
-            if stored < 0.0:
-                stored = 0.0
-            e += stored
-            leak = c_a * e
-            if e >= c_cold:
-                leak += c_c
-            if c_b > 0.0:
-                leak += c_b * np.sqrt(e)
-            if leak > e:
-                leak = e
-            e -= leak
-            short = unmet > 1e-12
+            was_on = on
+            e, on, short, h, direct, draw, unmet, stored, loss, spill, leak = _hour(
+                h_run[r, t], h_cold[r, t], dem[kd, t], allowed[ka, t], e, on, c_cut, c_full, c_on, c_cold,
+                c_eff, c_a, c_b, c_c, c_forced)
             if daily_only:
-                if short or not on:
+                if short or not was_on:
                     dark_day_rec[k, t // 24] = True
             else:
-                on_rec[k, t] = on
+                on_rec[k, t] = was_on
                 short_rec[k, t] = short
-            if stop_when_on and on:
+            if stop_when_on and was_on:
                 on_rec[k, t + 1:] = False
                 short_rec[k, t + 1:] = False
                 break
-            # on stays on while nothing ran short; otherwise (off, or just cut off) it runs next
-            # hour only from the turn-on level up
-            if not on or short:
-                on = e >= c_on
-            if c_forced:
-                on = True
             if t >= min_from and e < lowest:
                 lowest = e
-            loss = stored / c_eff - stored
-            t_h += h
-            t_dir += direct
-            t_draw += draw
-            t_unmet += unmet
-            t_store += stored
-            t_loss += loss
-            t_spill += surplus - stored - loss
-            t_leak += leak
+            flows[0] += h
+            flows[1] += direct
+            flows[2] += draw
+            flows[3] += unmet
+            flows[4] += stored
+            flows[5] += loss
+            flows[6] += spill
+            flows[7] += leak
             if hourly:
                 e_rec[k, t] = e
                 served_rec[k, t] = direct + draw
                 unmet_rec[k, t] = unmet
         e_min[k] = lowest
         e_end[k] = e
-        totals[0, k] = t_h
-        totals[1, k] = t_dir
-        totals[2, k] = t_draw
-        totals[3, k] = t_unmet
-        totals[4, k] = t_store
-        totals[5, k] = t_loss
-        totals[6, k] = t_spill
-        totals[7, k] = t_leak
+        totals[:, k] = flows
+
+
+@njit(cache=True, nogil=True, parallel=True)
+def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
+                leak_a, leak_b, leak_c, dark_day_rec, e_min, e_end, totals):  # pragma: no cover - compiled
+    """A warm-up year then the counted year on the same inputs. Once the counted year's state
+    (store, node) equals the warm-up year's at the same hour, the rest of the counted year repeats
+    the warm-up year exactly, so its records are taken from there instead of recomputed."""
+    n_conf = rows.shape[0]
+    n_hours = h_run.shape[1]
+    shared_dem = dem.shape[0] == 1
+    shared_allowed = allowed.shape[0] == 1
+    for k in prange(n_conf):
+        r = rows[k]
+        kd = k - k if shared_dem else k
+        ka = k - k if shared_allowed else k
+        c_cut, c_full, c_on, c_cold = cut[k], full[k], turn_on[k], cold_lvl[k]
+        c_eff, c_a, c_b, c_c, c_forced = eff[k], leak_a[k], leak_b[k], leak_c[k], forced[k]
+        e1 = np.empty(n_hours)
+        on1 = np.empty(n_hours, dtype=np.bool_)
+        dark1 = np.empty(n_hours, dtype=np.bool_)
+        flows1 = np.empty((8, n_hours))
+        e = e0[k]
+        on = on0[k] or c_forced
+        for t in range(n_hours):
+            was_on = on
+            e, on, short, h, direct, draw, unmet, stored, loss, spill, leak = _hour(
+                h_run[r, t], h_cold[r, t], dem[kd, t], allowed[ka, t], e, on, c_cut, c_full, c_on, c_cold,
+                c_eff, c_a, c_b, c_c, c_forced)
+            e1[t] = e
+            on1[t] = on
+            dark1[t] = short or not was_on
+            flows1[0, t] = h
+            flows1[1, t] = direct
+            flows1[2, t] = draw
+            flows1[3, t] = unmet
+            flows1[4, t] = stored
+            flows1[5, t] = loss
+            flows1[6, t] = spill
+            flows1[7, t] = leak
+        lowest = np.inf
+        flows = np.zeros(8)
+        joined = n_hours
+        for t in range(n_hours):
+            was_on = on
+            e, on, short, h, direct, draw, unmet, stored, loss, spill, leak = _hour(
+                h_run[r, t], h_cold[r, t], dem[kd, t], allowed[ka, t], e, on, c_cut, c_full, c_on, c_cold,
+                c_eff, c_a, c_b, c_c, c_forced)
+            if short or not was_on:
+                dark_day_rec[k, t // 24] = True
+            if e < lowest:
+                lowest = e
+            flows[0] += h
+            flows[1] += direct
+            flows[2] += draw
+            flows[3] += unmet
+            flows[4] += stored
+            flows[5] += loss
+            flows[6] += spill
+            flows[7] += leak
+            if e == e1[t] and on == on1[t]:
+                joined = t + 1
+                break
+        for t in range(joined, n_hours):
+            if dark1[t]:
+                dark_day_rec[k, t // 24] = True
+            if e1[t] < lowest:
+                lowest = e1[t]
+            for i in range(8):
+                flows[i] += flows1[i, t]
+        if joined < n_hours:
+            e = e1[n_hours - 1]
+        e_min[k] = lowest
+        e_end[k] = e
+        totals[:, k] = flows
 
 
 def simulate(
@@ -188,6 +271,7 @@ def simulate(
     harvest_rows: np.ndarray | None = None,
     stop_when_on: bool = False,
     daily_only: bool = False,
+    steady_year: bool = False,
 ) -> KernelResult:
     """Run the hourly energy balance for C configurations over H hours.
 
@@ -220,6 +304,12 @@ def simulate(
     daily_only : bool
         Record only ``dark_days`` (C, H // 24): days with an hour off or short (for sweeps); ``on``
         and ``short`` are then empty.
+    steady_year : bool
+        The inputs are one period (a year): run it twice, a warm-up then the counted one, and record
+        only the counted period's ``dark_days``, ``min_energy_j``, ``final_energy_j`` and totals. Gives
+        the same numbers as running the inputs tiled twice with ``daily_only`` and
+        ``min_from=H``, faster: the counted year stops being simulated once it rejoins the warm-up
+        year's path.
 
     Returns
     -------
@@ -257,13 +347,20 @@ def simulate(
     e_min, e_end = np.empty(n_conf), np.empty(n_conf)
     totals = np.empty((len(_TOTAL_KEYS), n_conf))
     e0 = per_conf(initial_energy_j)
-    _run(h_run, h_cold, rows, dem, allowed, e0, per_conf(initially_on, np.bool_),
-         per_conf(always_on, np.bool_), per_conf(store.cutoff_j), per_conf(store.max_j),
-         per_conf(store.turn_on_j), per_conf(store.cold_start_j), per_conf(store.charge_efficiency),
-         per_conf(store.leak_fraction_per_h), per_conf(store.leak_sqrt_j_per_h),
-         per_conf(store.leak_const_j_per_h), int(min_from), bool(hourly), bool(stop_when_on), bool(daily_only),
-         on_rec, short_rec, dark_day_rec, e_min,
-         e_end, totals, e_rec, served_rec, unmet_rec)
+    common = (h_run, h_cold, rows, dem, allowed, e0, per_conf(initially_on, np.bool_), per_conf(always_on, np.bool_),
+              per_conf(store.cutoff_j), per_conf(store.max_j), per_conf(store.turn_on_j),
+              per_conf(store.cold_start_j), per_conf(store.charge_efficiency), per_conf(store.leak_fraction_per_h),
+              per_conf(store.leak_sqrt_j_per_h), per_conf(store.leak_const_j_per_h))
+    if steady_year:
+        dark_day_rec = np.zeros((n_conf, n_hours // 24), dtype=np.bool_)
+        _run_steady(*common, dark_day_rec, e_min, e_end, totals)
+        tot = dict(zip(_TOTAL_KEYS, totals, strict=True))
+        tot["start"] = np.full(n_conf, np.nan)   # the counted year starts where the warm-up left it
+        empty = np.empty((n_conf, 0), dtype=np.bool_)
+        return KernelResult(on=empty, short=empty, min_energy_j=e_min, final_energy_j=e_end, totals=tot,
+                            dark_days=dark_day_rec)
+    _run(*common, int(min_from), bool(hourly), bool(stop_when_on), bool(daily_only), on_rec, short_rec,
+         dark_day_rec, e_min, e_end, totals, e_rec, served_rec, unmet_rec)
     tot = dict(zip(_TOTAL_KEYS, totals, strict=True))
     tot["start"] = e0.copy()
     result = KernelResult(on=on_rec, short=short_rec, min_energy_j=e_min, final_energy_j=e_end, totals=tot,

@@ -35,7 +35,7 @@ from .conditioning import condition
 from .demand import demand_energy_j
 from .fields import bounds_of
 from .kernel import StoreArrays, simulate
-from .metrics import dark_hours, deficit_days, first_wake_hours
+from .metrics import first_wake_hours
 from .schedule import WeeklySchedule
 from .sources import source_output
 from .store import SupercapacitorSpec, store_levels
@@ -46,7 +46,6 @@ from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, month_of_hour
 LINEAR_KNOBS = {("solar", "area_cm2"), ("indoor_light", "area_cm2"), ("thermoelectric", "modules")}
 # Knobs where a smaller value means more harvester (a transmitter moved closer).
 SMALLER_IS_MORE = {("rf", "distance_m")}
-YEAR = slice(HOURS_PER_YEAR, 2 * HOURS_PER_YEAR)
 # In a sizing map a first wake later than this counts as none (NaN / null): 90 days.
 FIRST_WAKE_HORIZON_H = 90 * 24
 
@@ -212,13 +211,10 @@ def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store
               for st in stores]
     store_arr = StoreArrays.stack([levels[j] for _ in range(n_h) for j in range(n_s)])
     rows = np.repeat(np.arange(n_h), n_s)
-    run = np.tile(harvest.running_w, 2) * SECONDS_PER_HOUR
-    cold = np.tile(harvest.cold_w, 2) * SECONDS_PER_HOUR
-    demand = np.tile(prep.demand_j, 2)
-    allowed = np.tile(prep.charge_allowed, 2)
-    steady = simulate(run, demand, store_arr, cold_harvest_j=cold, charge_allowed=allowed,
-                      harvest_rows=rows, min_from=HOURS_PER_YEAR, daily_only=True)
-    dd = steady.dark_days[:, 365:].sum(axis=1).reshape(n_h, n_s)
+    steady = simulate(harvest.running_w * SECONDS_PER_HOUR, prep.demand_j, store_arr,
+                      cold_harvest_j=harvest.cold_w * SECONDS_PER_HOUR, charge_allowed=prep.charge_allowed,
+                      harvest_rows=rows, steady_year=True)
+    dd = steady.dark_days.sum(axis=1).reshape(n_h, n_s)
     # first wake: empty store at the installation hour, one year on
     from .assess import install_hour
 
@@ -256,10 +252,10 @@ class ReportInterval:
 def _steady_deficit(prep: Prepared, harvest: Harvest, demand_j: np.ndarray) -> int:
     lv = store_levels(prep.spec.store, cold_start_until_v=harvest.cold_start_until_v,
                       quiescent_w=harvest.quiescent_w)
-    res = simulate(np.tile(harvest.running_w, 2)[None, :] * SECONDS_PER_HOUR, np.tile(demand_j, 2),
-                   StoreArrays.stack([lv]), cold_harvest_j=np.tile(harvest.cold_w, 2)[None, :] * SECONDS_PER_HOUR,
-                   charge_allowed=np.tile(prep.charge_allowed, 2), min_from=HOURS_PER_YEAR)
-    return int(deficit_days(dark_hours(res.on[:, YEAR], res.short[:, YEAR]))[0])
+    res = simulate(harvest.running_w[None, :] * SECONDS_PER_HOUR, demand_j, StoreArrays.stack([lv]),
+                   cold_harvest_j=harvest.cold_w[None, :] * SECONDS_PER_HOUR, charge_allowed=prep.charge_allowed,
+                   steady_year=True)
+    return int(res.dark_days.sum())
 
 
 def report_interval(prep: Prepared, source_id: str | None = None, *, max_deficit_days: int | None = None,
@@ -420,11 +416,9 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
     both = combine(prep.harvests)
     cases.append((both, np.sum(per_source_run, axis=0), np.sum(per_source_cold, axis=0)))
     results: dict[str, np.ndarray] = {}
-    demand = np.tile(prep.demand_j, 2)
     for h, run, cold in cases:
         lv = store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v, quiescent_w=h.quiescent_w)
-        res = simulate(np.tile(run, 2) * SECONDS_PER_HOUR, demand, StoreArrays.stack([lv] * years),
-                       cold_harvest_j=np.tile(cold, 2) * SECONDS_PER_HOUR, charge_allowed=np.tile(allowed, 2),
-                       min_from=HOURS_PER_YEAR, daily_only=True)
-        results[h.id] = res.dark_days[:, 365:].sum(axis=1)
+        res = simulate(run * SECONDS_PER_HOUR, prep.demand_j, StoreArrays.stack([lv] * years),
+                       cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, steady_year=True)
+        results[h.id] = res.dark_days.sum(axis=1)
     return WeatherRisk(years, seed, results, day_map)

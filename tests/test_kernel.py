@@ -166,3 +166,32 @@ def test_daily_record_matches_hourly_records():
     expected = dark_hours(full.on, full.short).reshape(4, 30, 24).any(axis=2)
     np.testing.assert_array_equal(daily.dark_days, expected)
     assert daily.on.shape == (4, 0)
+
+
+@settings(max_examples=40, deadline=None)
+@given(seed=st.integers(0, 2**31), sqrt_leak=st.booleans(), hysteresis=st.booleans())
+def test_steady_year_shortcut_equals_two_explicit_years(seed, sqrt_leak, hysteresis):
+    """The steady-year mode (stop once the counted year rejoins the warm-up year's path) gives the
+    same dark days, lowest and final store, and counted-year totals as running the year twice."""
+    rng = np.random.default_rng(seed)
+    n, days = 6, 60
+    hours = 24 * days
+    daylight = np.tile(np.r_[np.zeros(7), np.ones(10), np.zeros(7)], days)
+    harvest = rng.exponential(1.0, (n, hours)) * daylight * rng.uniform(0.05, 0.6, (n, 1))
+    demand = np.full(hours, 0.15)
+    allowed = rng.random(hours) > 0.05
+    full = rng.uniform(2, 30, n)
+    levels = StoreArrays(max_j=full, cutoff_j=full * 0.1, turn_on_j=full * (0.5 if hysteresis else 0.1),
+                         cold_start_j=full * 0.05, leak_fraction_per_h=rng.uniform(0, 2e-3, n),
+                         leak_sqrt_j_per_h=rng.uniform(0, 0.02, n) if sqrt_leak else np.zeros(n),
+                         leak_const_j_per_h=np.full(n, 1e-3), charge_efficiency=np.full(n, 0.9))
+    cold = harvest * 0.2
+    fast = simulate(harvest, demand, levels, cold_harvest_j=cold, charge_allowed=allowed, steady_year=True)
+    slow = simulate(np.tile(harvest, 2), np.tile(demand, 2), levels, cold_harvest_j=np.tile(cold, 2),
+                    charge_allowed=np.tile(allowed, 2), daily_only=True, min_from=hours)
+    first = simulate(harvest, demand, levels, cold_harvest_j=cold, charge_allowed=allowed)
+    np.testing.assert_array_equal(fast.dark_days, slow.dark_days[:, days:])
+    np.testing.assert_array_equal(fast.min_energy_j, slow.min_energy_j)
+    np.testing.assert_array_equal(fast.final_energy_j, slow.final_energy_j)
+    for key in ("harvest", "direct", "drawn", "unmet", "to_store", "charge_loss", "spilled", "leaked"):
+        np.testing.assert_allclose(fast.totals[key], slow.totals[key] - first.totals[key], rtol=1e-9, atol=1e-9)
