@@ -18,9 +18,9 @@ from typing import Literal
 from siteharvest.errors import SiteInputError
 from siteharvest.site import SiteSpec, load_site
 
-from .html import assemble, build_html, fmt_energy_wh, fmt_sig, generated_text, spot_section
+from .html import assemble, build_html, early_sections, fmt_energy_wh, fmt_sig, generated_text, spot_section
 from .render import FigureRenderer, ReportError, chromium_path, html_to_pdf
-from .study import SiteInput, SpotStudy, expand_inputs, study_spot_or_error
+from .study import SiteInput, SpotStudy, complete_study, expand_inputs, study_spot_or_error
 
 Format = Literal["pdf", "html"]
 
@@ -63,8 +63,11 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
     with FigureRenderer(tabs=2) as renderer:
         for n, item in enumerate(items, 1):
             t = time.perf_counter()
-            study = study_spot_or_error(item, portfolio=portfolio, sizing=sizing, risk_years=risk_years,
-                                        sizing_steps=sizing_steps, seed=seed)
+            study = study_spot_or_error(item, portfolio=portfolio, sizing=False, risk_years=0)
+            if study.ok:   # the year's figures render while the sizing and risk studies run
+                study.early_parts = early_sections(study, renderer.defer)
+                renderer.flush()
+                complete_study(study, sizing=sizing, risk_years=risk_years, sizing_steps=sizing_steps, seed=seed)
             timings["study"] += time.perf_counter() - t
             studies.append(study)
             sections.append(spot_section(study, n, renderer.defer, when, portfolio=portfolio))

@@ -469,11 +469,18 @@ def spot_header(study: SpotStudy, generated: str, level: str = "h1") -> str:
             f'<div class="answer"><p>{answer_sentence(study)}</p></div>')
 
 
+def early_sections(study: SpotStudy, svg: SvgMaker) -> dict[str, str]:
+    """The sections that need only the year's assessment, so their figures can render while the
+    sizing and weather-risk studies run."""
+    return {"monthly": monthly_section(study, svg), "year": year_section(study, svg)}
+
+
 def spot_body(study: SpotStudy, svg: SvgMaker, generated: str, *, with_methods: bool) -> str:
     a = study.assessment
     assert a is not None
-    parts = [spot_header(study, generated), results_section(study), monthly_section(study, svg),
-             year_section(study, svg), sizing_section(study, svg), risk_section(study, svg), notes_section(a),
+    early = study.early_parts or early_sections(study, svg)
+    parts = [spot_header(study, generated), results_section(study), early["monthly"],
+             early["year"], sizing_section(study, svg), risk_section(study, svg), notes_section(a),
              cautions_section(a), inputs_section(study)]
     if with_methods:
         parts.append(methods_section([study]))

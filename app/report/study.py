@@ -49,6 +49,7 @@ class SpotStudy:
     sizing_error: str | None = None
     risk: WeatherRisk | None = None
     risk_error: str | None = None
+    early_parts: dict[str, str] = field(default_factory=dict)  # sections built before the studies
 
     @property
     def ok(self) -> bool:
@@ -154,6 +155,16 @@ def study_spot(item: SiteInput, *, sizing: bool = True, risk_years: int = 200, s
     digest, files = fingerprint(text, input_files(spec))
     study = SpotStudy(label=label, file=file, spec=spec, site_text=text, input_files=files, input_sha256=digest)
     study.assessment = assess(spec)
+    complete_study(study, sizing=sizing, risk_years=risk_years, sizing_steps=sizing_steps, seed=seed)
+    return study
+
+
+def complete_study(study: SpotStudy, *, sizing: bool = True, risk_years: int = 200, sizing_steps: int = 24,
+                   seed: int = 1) -> SpotStudy:
+    """Add the sizing maps, report intervals and weather risk to an assessed spot."""
+    if study.assessment is None:
+        return study
+    spec = study.assessment.spec
     prep = study.assessment.prepared
     if sizing:
         try:
