@@ -129,6 +129,19 @@ def _hour(h_run_v, h_cold_v, d_sched, charge_ok, e, on, c_cut, c_full, c_on, c_c
     return e, on_next, short, h, direct, draw, unmet, stored, loss, surplus - stored - loss, leak
 
 
+@njit(inline="always", nogil=True)
+def _add_flows(flows, h, direct, draw, unmet, stored, loss, spill, leak):  # pragma: no cover - compiled
+    """Add one hour's flows to ``flows`` in the order of ``_TOTAL_KEYS``."""
+    flows[0] += h
+    flows[1] += direct
+    flows[2] += draw
+    flows[3] += unmet
+    flows[4] += stored
+    flows[5] += loss
+    flows[6] += spill
+    flows[7] += leak
+
+
 @njit(cache=True, nogil=True, parallel=True)
 def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
          leak_a, leak_b, leak_c, min_from, hourly, stop_when_on, daily_only, on_rec, short_rec, dark_day_rec,
@@ -164,14 +177,7 @@ def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on,
                 break
             if t >= min_from and e < lowest:
                 lowest = e
-            flows[0] += h
-            flows[1] += direct
-            flows[2] += draw
-            flows[3] += unmet
-            flows[4] += stored
-            flows[5] += loss
-            flows[6] += spill
-            flows[7] += leak
+            _add_flows(flows, h, direct, draw, unmet, stored, loss, spill, leak)
             if hourly:
                 e_rec[k, t] = e
                 served_rec[k, t] = direct + draw
@@ -200,7 +206,7 @@ def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, t
         e1 = np.empty(n_hours)
         on1 = np.empty(n_hours, dtype=np.bool_)
         dark1 = np.empty(n_hours, dtype=np.bool_)
-        flows1 = np.empty((8, n_hours))
+        flows1 = np.zeros((8, n_hours))
         e = e0[k]
         on = on0[k] or c_forced
         for t in range(n_hours):
@@ -211,14 +217,7 @@ def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, t
             e1[t] = e
             on1[t] = on
             dark1[t] = short or not was_on
-            flows1[0, t] = h
-            flows1[1, t] = direct
-            flows1[2, t] = draw
-            flows1[3, t] = unmet
-            flows1[4, t] = stored
-            flows1[5, t] = loss
-            flows1[6, t] = spill
-            flows1[7, t] = leak
+            _add_flows(flows1[:, t], h, direct, draw, unmet, stored, loss, spill, leak)
         lowest = np.inf
         flows = np.zeros(8)
         joined = n_hours
@@ -231,14 +230,7 @@ def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, t
                 dark_day_rec[k, t // 24] = True
             if e < lowest:
                 lowest = e
-            flows[0] += h
-            flows[1] += direct
-            flows[2] += draw
-            flows[3] += unmet
-            flows[4] += stored
-            flows[5] += loss
-            flows[6] += spill
-            flows[7] += leak
+            _add_flows(flows, h, direct, draw, unmet, stored, loss, spill, leak)
             if e == e1[t] and on == on1[t]:
                 joined = t + 1
                 break
