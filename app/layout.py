@@ -45,7 +45,9 @@ def _legend() -> html.Div:
         [html.Span("Verdict words:", className="sh-legend-title")]
         + [html.Span([html.Span(words, className=f"sh-verdict sh-verdict-small {cls}"),
                       html.Span(VERDICT_MEANING[words], className="sh-legend-text")],
-                     className="sh-legend-item") for words, cls in VERDICT_CLASS.items()],
+                     className="sh-legend-item") for words, cls in VERDICT_CLASS.items()]
+        + [html.Span("Backup cell life with +: the cell's shelf life limits it, not the node.",
+                     className="sh-legend-text sh-legend-note")],
         className="sh-legend")
 
 

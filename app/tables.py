@@ -9,6 +9,7 @@ import numpy as np
 
 from siteharvest.assess import Assessment, CaseResult
 from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
+from siteharvest.store import backup_life_text
 
 from .figures import si_scale
 
@@ -57,6 +58,7 @@ def case_name(c: CaseResult) -> str:
 def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
     """One row per source and one for all together; and the unit of the energy column."""
     cases = a.cases
+    shelf_life_years = a.backup.shelf_life_years
     factor, unit = si_scale(max((c.annual_energy_wh for c in cases), default=1.0), "Wh")
     rows = []
     for c in cases:
@@ -71,7 +73,7 @@ def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
             "first_wake": first_wake_text(c.first_wake_hours),
             "longest_outage": str(int(c.longest_outage_hours)),
             "lowest_soc": fmt(c.lowest_soc_pct, 2),
-            "backup_life": fmt(c.backup_life_years, 2),
+            "backup_life": backup_life_text(c.backup_life_years, shelf_life_years, short=True),
             "verdict": c.verdict,
             "verdict_class": VERDICT_CLASS.get(c.verdict, ""),
         })

@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import SiteInputError
+from .store import backup_life_text
 
 EXIT_BAD_INPUT = 2
 
@@ -33,7 +34,7 @@ def format_table(assessment) -> str:
         f"Node: mean demand {a.mean_power_uw:,.1f} uW  "
         f"({a.prepared.demand_j.sum() / 3600:,.2f} Wh/yr);  store usable {a.usable_energy_j:,.1f} J",
         f"Backup cell alone ({a.backup.cell}{', assumed' if a.backup_is_assumed else ''}): "
-        f"{_fmt(a.backup_only_life_years)} years",
+        f"{backup_life_text(a.backup_only_life_years, a.backup.shelf_life_years)} years",
         "",
     ]
     head = ["source", "kind", "into store Wh/yr", "deficit days", "first wake h", "longest outage h",
@@ -42,7 +43,7 @@ def format_table(assessment) -> str:
     for c in a.cases:
         rows.append([c.id, c.kind, _fmt(c.annual_energy_wh, 2), str(c.deficit_days),
                      _fmt(c.first_wake_hours, 0), str(c.longest_outage_hours), _fmt(c.lowest_soc_pct, 0),
-                     _fmt(c.backup_life_years), c.verdict])
+                     backup_life_text(c.backup_life_years, a.backup.shelf_life_years), c.verdict])
     widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
     right = {2, 3, 4, 5, 6, 7}
 

@@ -235,6 +235,16 @@ def esr_sag_warning(store: SupercapacitorSpec | RechargeableCellSpec, largest_ta
             "store with lower ESR.")
 
 
+def backup_life_text(years: float, shelf_life_years: float, digits: int = 1, *, short: bool = False) -> str:
+    """A backup-cell life for people: capped lives read '20+ (shelf life)' (``short``: '20+'), not a
+    bare '20'."""
+    if not np.isfinite(years):
+        return "-"
+    if years >= shelf_life_years * (1 - 1e-9):
+        return f"{shelf_life_years:g}+" + ("" if short else " (shelf life)")
+    return f"{years:.{digits}f}"
+
+
 def backup_life_years(backup: BackupCellSpec, annual_draw_j: float | np.ndarray) -> np.ndarray:
     """Years until the backup cell is exhausted: Q / (D + s Q), capped at the cell's shelf life.
 

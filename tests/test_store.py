@@ -14,6 +14,7 @@ from siteharvest.store import (
     BackupCellSpec,
     RechargeableCellSpec,
     SupercapacitorSpec,
+    backup_life_text,
     backup_life_years,
     charge_allowed,
     esr_sag_warning,
@@ -94,3 +95,10 @@ def test_backup_life_falls_with_draw(d1, d2):
     cell = BackupCellSpec()
     lo, hi = sorted((d1, d2))
     assert backup_life_years(cell, hi) <= backup_life_years(cell, lo)
+
+
+def test_backup_life_text_says_when_shelf_life_limits():
+    assert backup_life_text(6.54, 20) == "6.5"
+    assert backup_life_text(20.0, 20) == "20+ (shelf life)"
+    assert backup_life_text(float("inf"), 20) == "-"
+    assert backup_life_text(25.0, 20, short=True) == "20+"

@@ -33,6 +33,7 @@ from siteharvest.assess import Assessment, CaseResult
 from siteharvest.fields import bounds_of
 from siteharvest.metrics import J_PER_WH, monthly_sum
 from siteharvest.sizing import SizingMap
+from siteharvest.store import backup_life_text
 from siteharvest.timegrid import REFERENCE_YEAR
 
 from .methods import (
@@ -198,13 +199,14 @@ def results_section(study: SpotStudy) -> str:
         rows.append([case_label(c), c.kind if c.kind != "combined" else "-", c.verdict,
                      "meets" if study.passes(c) else "misses", fmt_energy_wh(c.annual_energy_wh),
                      str(c.deficit_days), fmt_hours(c.first_wake_hours), f"{c.longest_outage_hours:,}",
-                     fmt_years(c.backup_life_years)])
+                     backup_life_text(c.backup_life_years, a.backup.shelf_life_years)])
     demand_wh = float(a.prepared.demand_j.sum() / J_PER_WH)
     backup = (f"{a.backup.cell} ({'assumed reference cell' if a.backup_is_assumed else 'as named in the site file'})")
     intro = (f"<p>The node draws {a.mean_power_uw:,.1f} µW on average, {fmt_energy_wh(demand_wh)} Wh a year. "
              f"The store holds {a.usable_energy_j:,.3g} J between full and cut-off, about "
              f"{fmt_sig(a.combined.autonomy_days, 3)} days of demand with no harvest. The backup cell, "
-             f"{e(backup)}, would run the node alone for {fmt_years(a.backup_only_life_years)} years; "
+             f"{e(backup)}, would run the node alone for "
+             f"{backup_life_text(a.backup_only_life_years, a.backup.shelf_life_years)} years; "
              f"the last column is its life alongside each source.</p>")
     head = ["Source", "Kind", "Verdict", "Target", "Into the store [Wh/yr]", "Deficit days [days/yr]",
             "First wake [h]", "Longest outage [h]", "Backup cell life [yr]"]
