@@ -80,10 +80,6 @@ def fmt_hours(h: float) -> str:
     return f"{h:,.0f}"
 
 
-def fmt_years(y: float) -> str:
-    return f"{y:.1f}" if math.isfinite(y) else "-"
-
-
 def fmt_interval_s(s: float) -> str:
     """A task period in plain units: 45 s, 12 min, 2.5 h, 1.2 days."""
     if s < 120:
