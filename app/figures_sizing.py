@@ -183,8 +183,9 @@ def sizing_heatmap(m: SizingMap, title: str = "") -> go.Figure:
                     "line": {"color": OKABE_ITO["black"], "width": 1.5}},
             hovertemplate=(f"pick<br>{h_name}: %{{y:.3g}} {h_unit}<br>{s_name}: %{{x:.3g}} {s_unit}"
                            f"<br>{int(dd[i, j])} deficit days, {_wake_text(fw[i, j])}<extra></extra>")))
+        pick_ax, pick_ay = (60 if j < dd.shape[1] / 2 else -60), (34 if i >= dd.shape[0] / 2 else -34)
         _label(fig, f"pick: {_q(hs[i], h_unit, m.harvester_field)} + {_q(ss[j], s_unit)}", ss[j], hs[i],
-               s_log, h_log, 60 if j < dd.shape[1] / 2 else -60, 34 if i >= dd.shape[0] / 2 else -34)
+               s_log, h_log, pick_ax, pick_ay)
     else:
         fig.add_annotation(
             text=f"no combination in this map meets ≤ {m.target_deficit_days} deficit days",
@@ -195,8 +196,11 @@ def sizing_heatmap(m: SizingMap, title: str = "") -> go.Figure:
                 height=520)
     fig.update_layout(legend={"orientation": "h", "y": -0.16, "x": 0, "yanchor": "top"},
                       margin={"l": 80, "r": 24, "t": 56, "b": 110})
-    _label(fig, "as drawn", m.store_drawn, m.harvester_drawn, s_log, h_log,
-           -50 if drawn_j >= dd.shape[1] / 2 else 50, 30 if drawn_i >= dd.shape[0] / 2 else -30)
+    drawn_ax, drawn_ay = (-50 if drawn_j >= dd.shape[1] / 2 else 50), (30 if drawn_i >= dd.shape[0] / 2 else -30)
+    if m.pick is not None and abs(m.pick[0] - drawn_i) <= 3 and abs(m.pick[1] - drawn_j) <= 3:
+        # neighbours: point the two labels away from each other
+        drawn_ax, drawn_ay = -50 if pick_ax > 0 else 50, -30 if pick_ay > 0 else 30
+    _label(fig, "as drawn", m.store_drawn, m.harvester_drawn, s_log, h_log, drawn_ax, drawn_ay)
     fig.update_xaxes(title_text=size_axis_title(m.store_field, m.store_unit), type="log" if s_log else "linear",
                      showgrid=False, range=_axis_range(x_edges, s_log), **_log_axis(x_edges, s_log))
     reverse = (m.kind, m.harvester_field) in SMALLER_IS_MORE
