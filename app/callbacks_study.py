@@ -225,15 +225,20 @@ SHOWN = {"height": "520px"}
 HIDDEN = {"display": "none"}
 
 
+def _open_view_record(tab: str | None, view: str, spots: dict[str, Any], key: str) -> dict[str, Any]:
+    """The chosen spot's record when ``view`` is the open tab; otherwise no update at all."""
+    if tab != view or not spots or key not in spots:
+        raise PreventUpdate
+    return spots[key]
+
+
 def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[str, Any], key: str,
                 files: dict[str, str] | None) -> tuple[Any, Any, Any]:
     """The sizing map of the chosen source and its plain-words line (only while the tab is open).
 
     Returns (figure, words, style of the figure: hidden when there is no map to draw).
     """
-    if tab != ids.TAB_SIZING or not spots or key not in spots:
-        raise PreventUpdate
-    record = spots[key]
+    record = _open_view_record(tab, ids.TAB_SIZING, spots, key)
     try:
         a = assessment_for(record, files)
     except (SiteInputError, ValueError) as exc:
@@ -315,9 +320,7 @@ def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate:
     Returns (table, figure of the chosen source, figure of all together, style of the latter's box, message line,
     note on outages).
     """
-    if tab != ids.TAB_RISK or not spots or key not in spots:
-        raise PreventUpdate
-    record = spots[key]
+    record = _open_view_record(tab, ids.TAB_RISK, spots, key)
     try:
         a = assessment_for(record, files)
     except (SiteInputError, ValueError) as exc:

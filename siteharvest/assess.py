@@ -34,6 +34,7 @@ from .sources import SourceOutput, source_output
 from .store import (
     BackupCellSpec,
     RechargeableCellSpec,
+    StoreLevels,
     backup_life_years,
     charge_allowed,
     esr_sag_warning,
@@ -224,9 +225,10 @@ def _two_years(x: np.ndarray, start: int) -> np.ndarray:
     return np.concatenate([x[start:], x, x[:start]])
 
 
-def run_cases(prep: Prepared, harvests: list[Harvest]) -> tuple[KernelResult, list[int]]:
+def run_cases(prep: Prepared, harvests: list[Harvest]) -> tuple[KernelResult, list[int], list[StoreLevels]]:
     """One kernel call for every case in three runs each: steady (warm-up year, then the counted
-    year), installation (empty store at the install hour, two years on) and backup (never off)."""
+    year), installation (empty store at the install hour, two years on) and backup (never off).
+    Returns the kernel result, the install hours and each case's store levels."""
     demand = prep.demand_j
     n = len(harvests)
     starts = [install_hour(prep.spec, h, demand) for h in harvests]
@@ -241,10 +243,10 @@ def run_cases(prep: Prepared, harvests: list[Harvest]) -> tuple[KernelResult, li
                      + [_two_years(prep.charge_allowed, s) for s in starts]
                      + [np.tile(prep.charge_allowed, 2)] * n)
     levels = [store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v,
-                           quiescent_w=h.quiescent_w) for h in harvests] * 3
-    result = simulate(run, dem, StoreArrays.stack(levels), cold_harvest_j=cold, charge_allowed=allow,
+                           quiescent_w=h.quiescent_w) for h in harvests]
+    result = simulate(run, dem, StoreArrays.stack(levels * 3), cold_harvest_j=cold, charge_allowed=allow,
                       always_on=np.repeat([False, False, True], n), min_from=HOURS_PER_YEAR, hourly=True)
-    return result, starts
+    return result, starts, levels
 
 
 def assess(spec: SiteSpec, context: tuple[SpotContext, WeatherMeta] | None = None) -> Assessment:
@@ -259,13 +261,11 @@ def assess_prepared(prep: Prepared) -> Assessment:
     spec = prep.spec
     harvests = [*prep.harvests, combine(prep.harvests)]
     n = len(harvests)
-    res, starts = run_cases(prep, harvests)
+    res, starts, levels = run_cases(prep, harvests)
     year = slice(HOURS_PER_YEAR, 2 * HOURS_PER_YEAR)
     demand = prep.demand_j
     backup = spec.store.backup or BackupCellSpec()
     usable = spec.store.usable_energy_j
-    levels = [store_levels(spec.store, cold_start_until_v=h.cold_start_until_v, quiescent_w=h.quiescent_w)
-              for h in harvests]
     mean_w = mean_power_w(spec.node)
     cases = []
     for k, h in enumerate(harvests):
