@@ -2,7 +2,7 @@
 
 Targets (README): one spot, PDF, default studies (24 x 24 sizing maps, 200 weather years) <= 5 s;
 a portfolio of 20 spots <= 60 s. The portfolio is made of copies of the sample spots with changed names
-in a temporary folder. Each run starts its own browsers (kaleido's and the one that prints), as the
+in a temporary folder. Each run starts its own browser (which renders the figures and prints), as the
 command line does; Python's imports are not counted.
 
     python benchmarks/bench_report.py [--spots 20] [--risk-years 200]

@@ -9,6 +9,7 @@ Rendered pages are written to test-artifacts/report/ for a person to look at.
 from __future__ import annotations
 
 import base64
+import io
 import json
 import re
 import shutil
@@ -17,13 +18,14 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import plotly.graph_objects as go
 import pytest
 from pypdf import PdfReader
 
 from app.report import build_report, make_report, write_report
 from app.report.html import fmt_energy_wh, fmt_sig, fmt_size, print_ready_monthly
 from app.report.methods import collect_references, modules_for, reference_entries
-from app.report.render import _unique_ids, html_to_pdf, inline_svg
+from app.report.render import ReportBrowser, _unique_ids, html_to_pdf, inline_svg
 from app.report.study import expand_inputs, fingerprint, input_files, study_spot
 from siteharvest import __version__
 from siteharvest.assess import prepare
@@ -41,6 +43,7 @@ FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--dis
 needs_chromium = pytest.mark.skipif(not CHROMIUM.exists(), reason="Debian's chromium is not at /usr/bin/chromium")
 # Small studies keep the file quick: few sizes along each axis, few resampled years.
 FAST = {"risk_years": 12, "sizing_steps": 6}
+FAST_ARGS = ["--risk-years", "12", "--sizing-steps", "6"]
 BROKEN = SAMPLES.joinpath("north-wall.toml").read_text(encoding="utf-8").replace(
     "capacitance_f = 1.5", "capacitance_f = -1.5")
 
@@ -329,6 +332,33 @@ def test_missing_chromium_is_one_clear_line(tmp_path, capsys, monkeypatch):
     assert main(["report", str(SAMPLES / "roof-parapet.toml"), "-o", str(tmp_path / "r.pdf")]) == 1
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1 and "Chromium is needed" in err and "SITEHARVEST_CHROMIUM" in err
+
+
+def test_a_program_that_is_no_browser_is_one_clear_line(tmp_path, capsys, monkeypatch):
+    fake = tmp_path / "not-a-browser"
+    fake.write_text("#!/bin/sh\nexit 0\n")
+    fake.chmod(0o755)
+    monkeypatch.setenv("SITEHARVEST_CHROMIUM", str(fake))
+    assert main(["report", str(SAMPLES / "roof-parapet.toml"), "-o", str(tmp_path / "r.pdf"), *FAST_ARGS]) == 1
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "could not start Chromium" in err and str(fake) in err
+    assert "('" not in err  # the first sentence, not a tuple of them
+    assert not (tmp_path / "r.pdf").exists()
+
+
+@needs_chromium
+def test_one_browser_renders_the_figures_and_prints_a4():
+    # ISO 216: A4 is 210 mm x 297 mm, i.e. 595.28 pt x 841.89 pt (1 pt = 1/72 in).
+    fig = go.Figure(go.Scatter(x=[0, 1, 2], y=[1, 3, 2], name="probe"), layout={"title": {"text": "probe"}})
+    with ReportBrowser() as browser:
+        token = browser.defer(fig, "probe figure", height_px=300)
+        body = browser.resolve(f"<!doctype html><html><body>{token}</body></html>")
+        pdf = browser.pdf(body)
+    assert token not in body and body.count("<svg") >= 1 and 'aria-label="probe figure"' in body
+    page = PdfReader(io.BytesIO(pdf)).pages
+    assert len(page) == 1
+    box = page[0].mediabox
+    assert float(box.width) == pytest.approx(595.28, abs=1.0) and float(box.height) == pytest.approx(841.89, abs=1.0)
 
 
 # --------------------------------------------------------------------------------------------------

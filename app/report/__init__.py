@@ -2,7 +2,7 @@
 
 ``build_report(paths_or_specs, fmt="pdf")`` returns the document's bytes; ``write_report`` writes it with
 the hourly series of each spot beside it. HTML and PDF share one layout: the PDF is the HTML printed by
-headless Chromium, with the figures as static SVG rendered by kaleido.
+headless Chromium, with the figures as static SVG rendered by plotly.js in that same browser.
 """
 
 from __future__ import annotations
@@ -19,7 +19,7 @@ from siteharvest.errors import SiteInputError
 from siteharvest.site import SiteSpec, load_site
 
 from .html import assemble, build_html, early_sections, fmt_energy_wh, fmt_sig, generated_text, spot_section
-from .render import FigureRenderer, ReportError, chromium_path, html_to_pdf
+from .render import ReportBrowser, ReportError, chromium_path
 from .study import SiteInput, SpotStudy, complete_study, expand_inputs, study_spot_or_error
 
 Format = Literal["pdf", "html"]
@@ -60,7 +60,7 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
     studies: list[SpotStudy] = []
     sections: list[str] = []
     # The browser starts while the first spot is computed; a portfolio renders over two tabs.
-    with FigureRenderer(tabs=2) as renderer:
+    with ReportBrowser(tabs=2 if portfolio else 1) as renderer:
         for n, item in enumerate(items, 1):
             t = time.perf_counter()
             study = study_spot_or_error(item, portfolio=portfolio, sizing=False, risk_years=0)
@@ -80,9 +80,9 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
         html = renderer.resolve(assemble(studies, sections, portfolio=portfolio, title=title or "portfolio",
                                          when=when))
         timings["figures_wait"] = time.perf_counter() - t
-    t = time.perf_counter()
-    content = html_to_pdf(html) if fmt == "pdf" else html.encode("utf-8")
-    timings["print"] = time.perf_counter() - t
+        t = time.perf_counter()
+        content = renderer.pdf(html) if fmt == "pdf" else html.encode("utf-8")
+        timings["print"] = time.perf_counter() - t
     timings["total"] = time.perf_counter() - clock
     return Report(content, fmt, studies, portfolio, timings)
 

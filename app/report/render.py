@@ -1,30 +1,39 @@
-"""Static rendering: plotly figures to inline SVG through kaleido (one browser for many figures), and
-HTML to PDF through headless Chromium, so that the HTML and the PDF share one layout.
+"""Static rendering in one headless Chromium: plotly figures to inline SVG (plotly.js's own ``toImage``,
+the plotly.js that ships with plotly), then the finished HTML printed to PDF in the same browser, so that
+the HTML and the PDF share one layout and a report starts one browser.
 
-Neither step touches the network: kaleido runs without MathJax and with the plotly.js that ships with
-plotly; Chromium prints a local file with its background networking, component updates and sync off.
+The browser is driven over the DevTools protocol by choreographer and loads only local files: the
+render page names plotly.js by its path inside the installed plotly package, and MathJax is never loaded.
 """
 
 from __future__ import annotations
 
+import asyncio
+import base64
+import contextlib
 import itertools
+import logging
 import os
 import re
 import shutil
-import subprocess
 import tempfile
-import warnings
-from concurrent.futures import Future, ThreadPoolExecutor
+import threading
+from collections.abc import Coroutine
+from concurrent.futures import Future
 from pathlib import Path
 from types import TracebackType
+from typing import Any, TypeVar
 
 import plotly.graph_objects as go
 
 CHROMIUM_CANDIDATES = ("/usr/bin/chromium", "chromium", "chromium-browser")
-CHROMIUM_FLAGS = ("--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--disable-background-networking",
-                  "--disable-component-update", "--disable-sync", "--disable-dev-shm-usage", "--disable-extensions",
-                  "--no-pdf-header-footer", "--disable-quic")
 PDF_TIMEOUT_S = 180.0
+START_TIMEOUT_S = 60.0
+FIGURE_TIMEOUT_S = 60.0
+# Besides choreographer's own flags: no calls home, no QUIC probes (this machine has no network).
+EXTRA_FLAGS = ("--disable-background-networking", "--disable-quic")
+A4_IN = (210 / 25.4, 297 / 25.4)  # paper when the page's CSS names none (ISO 216 A4, in inches)
+T = TypeVar("T")
 
 
 class ReportError(RuntimeError):
@@ -61,7 +70,7 @@ def _unique_ids(svg: str, prefix: str) -> str:
 
 
 def inline_svg(svg: str, prefix: str, label: str) -> str:
-    """Kaleido's SVG made to scale with its container, with unique ids and an accessible name."""
+    """plotly.js's SVG made to scale with its container, with unique ids and an accessible name."""
     svg = re.sub(r"^<\?xml[^>]*>\s*", "", svg.strip())
     svg = _unique_ids(svg, prefix)
     label = label.replace("&", "&amp;").replace('"', "&quot;").replace("<", "&lt;")
@@ -69,69 +78,170 @@ def inline_svg(svg: str, prefix: str, label: str) -> str:
                   rf'<svg\1 role="img" aria-label="{label}" preserveAspectRatio="xMidYMid meet"', svg, count=1)
 
 
-class FigureRenderer:
-    """Render many figures with one kaleido browser: ``with FigureRenderer() as r: ...``.
+RENDER_PAGE = """<!doctype html>
+<html><head><meta charset="utf-8"><title>figures</title><script src="{plotly}"></script></head>
+<body style="margin:0"><script>
+async function renderFigure(fig, width, height) {{
+  return Plotly.toImage({{data: fig.data || [], layout: fig.layout || {{}}, config: fig.config || {{}}}},
+                        {{format: "svg", width: width, height: height, imageDataOnly: true}});
+}}
+</script></body></html>
+"""
 
-    Entering launches the browser in the background, so that work done before the first figure overlaps
-    the launch. ``svg(fig)`` renders at once; ``defer(fig)`` returns a placeholder and queues the figure,
-    ``flush()`` hands the queue to a background thread that renders it in a batch over ``tabs`` browser
-    tabs (while the caller computes the next spot), and ``resolve(html)`` swaps the placeholders for the
-    SVGs. A kaleido server that was already running is used and left running.
+
+def plotly_js_path() -> Path:
+    """The plotly.js bundle that ships with the installed plotly package (no network needed)."""
+    import plotly
+
+    path = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
+    if not path.is_file():
+        raise ReportError(f"plotly.js was not found at {path}; reinstall the 'plotly' package")
+    return path
+
+
+def _first_line(exc: BaseException) -> str:
+    """The exception's first line of text (some carry a tuple of sentences: the first of them)."""
+    first = exc.args[0] if exc.args else ""
+    text = (first if isinstance(first, str) else str(exc)).strip()
+    return text.splitlines()[0] if text else type(exc).__name__
+
+
+def _quiet_chromium() -> type:
+    """choreographer's Chromium launcher with :data:`EXTRA_FLAGS` added to its command line."""
+    from choreographer.browsers import Chromium
+
+    class QuietChromium(Chromium):
+        def get_cli(self) -> list[str]:
+            return [*super().get_cli(), *EXTRA_FLAGS]
+
+    return QuietChromium
+
+
+class ReportBrowser:
+    """One headless Chromium that renders a report's figures and prints it: ``with ReportBrowser() as b:``.
+
+    Entering starts the browser in a background thread and returns at once, so that the first spot is
+    computed while the browser and plotly.js load. ``defer(fig)`` returns a placeholder and queues the
+    figure; ``flush()`` hands the queue to the browser, which renders it to SVG over ``tabs`` tabs while
+    the caller goes on; ``resolve(html)`` swaps the placeholders for the SVGs; ``pdf(html)`` prints a
+    finished document (A4 and margins from its CSS). Browser trouble surfaces as :class:`ReportError`.
     """
 
-    def __init__(self, width_px: int = 760, tabs: int = 2) -> None:
+    def __init__(self, width_px: int = 760, tabs: int = 1) -> None:
         self.width_px = width_px
-        self.tabs = tabs
-        self._started = False
+        self.tabs = max(1, int(tabs))
         self._count = itertools.count(1)
         self._pending: list[tuple[str, go.Figure, str, int]] = []
         self._batches: list[Future[dict[str, str]]] = []
-        self._pool: ThreadPoolExecutor | None = None
+        self._loop: asyncio.AbstractEventLoop | None = None
+        self._thread: threading.Thread | None = None
+        self._opened: Future[None] | None = None
+        self._browser: Any = None
+        self._ready: asyncio.Queue[Any] | None = None
         self._tmp: tempfile.TemporaryDirectory[str] | None = None
 
-    def __enter__(self) -> FigureRenderer:
-        import kaleido
+    # -- lifecycle -------------------------------------------------------------------------------
 
-        path = chromium_path()
-        server = getattr(kaleido, "_global_server", None)
-        if server is None or not server.is_running():
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                kaleido.start_sync_server(mathjax=False, n=self.tabs, path=str(path), silence_warnings=True)
-            self._started = True
-        self._pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="siteharvest-figures")
-        self._tmp = tempfile.TemporaryDirectory(prefix="siteharvest-figures-")
+    def __enter__(self) -> ReportBrowser:
+        exe = chromium_path()
+        quiet = logging.getLogger("choreographer")  # its warnings would reach stderr through logging's last resort
+        if not quiet.handlers:
+            quiet.addHandler(logging.NullHandler())
+        self._tmp = tempfile.TemporaryDirectory(prefix="siteharvest-report-")
+        page = Path(self._tmp.name) / "figures.html"
+        page.write_text(RENDER_PAGE.format(plotly=plotly_js_path().as_uri()), encoding="utf-8")
+        self._loop = asyncio.new_event_loop()
+        self._thread = threading.Thread(target=self._loop.run_forever, name="siteharvest-browser", daemon=True)
+        self._thread.start()
+        self._opened = self._submit(self._open(exe, page.as_uri()))
         return self
 
     def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
                  tb: TracebackType | None) -> None:
-        if self._pool is not None:
-            self._pool.shutdown(wait=True, cancel_futures=True)
-            self._pool = None
-        if self._tmp is not None:
-            self._tmp.cleanup()
-            self._tmp = None
-        if self._started:
-            import kaleido
+        try:
+            if self._loop is not None:
+                for batch in self._batches:
+                    batch.cancel()
+                with contextlib.suppress(Exception):  # best effort: the browser process ends with us anyway
+                    self._submit(self._close()).result(timeout=30)
+                self._loop.call_soon_threadsafe(self._loop.stop)
+                if self._thread is not None:
+                    self._thread.join(timeout=10)
+                if not self._loop.is_running():
+                    self._loop.close()
+        finally:
+            self._loop = self._thread = None
+            self._batches = []
+            if self._tmp is not None:
+                self._tmp.cleanup()
+                self._tmp = None
 
-            kaleido.stop_sync_server(silence_warnings=True)
-            self._started = False
+    def _submit(self, coro: Coroutine[Any, Any, T]) -> Future[T]:
+        if self._loop is None:
+            coro.close()
+            raise RuntimeError("ReportBrowser used outside its 'with' block")
+        return asyncio.run_coroutine_threadsafe(coro, self._loop)
 
-    def _opts(self, fig: go.Figure, height_px: int | None) -> dict[str, object]:
-        return {"format": "svg", "width": self.width_px, "height": int(height_px or fig.layout.height or 420)}
-
-    def svg(self, fig: go.Figure, label: str = "", height_px: int | None = None) -> str:
-        """The figure as an inline SVG element (text stays text), rendered now."""
-        import kaleido
+    async def _open(self, exe: Path, page_uri: str) -> None:
+        import choreographer
 
         try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                data = kaleido.calc_fig_sync(fig, opts=self._opts(fig, height_px))
-        except Exception as exc:  # kaleido reports browser trouble with many exception types
-            raise _render_error(exc) from exc
-        text = data.decode("utf-8") if isinstance(data, bytes) else str(data)
-        return inline_svg(text, f"f{next(self._count)}-", label or (fig.layout.title.text or "figure"))
+            self._browser = choreographer.Browser(path=str(exe), browser_cls=_quiet_chromium(), headless=True,
+                                                  enable_extensions=False)
+            await asyncio.wait_for(self._browser.open(), START_TIMEOUT_S)
+            first = self._browser.get_tab() or await self._browser.create_tab()
+            tabs = [first] + [await self._browser.create_tab() for _ in range(self.tabs - 1)]
+            await asyncio.gather(*(self._navigate(tab, page_uri, START_TIMEOUT_S) for tab in tabs))
+        except Exception as exc:  # choreographer reports browser trouble with many exception types
+            await self._close_browser()
+            if isinstance(exc, ReportError):
+                raise
+            raise ReportError(f"could not start Chromium ({exe}) for the report: {_first_line(exc)}") from exc
+        self._ready = asyncio.Queue()
+        for tab in tabs:
+            self._ready.put_nowait(tab)
+
+    async def _close_browser(self) -> None:
+        if self._browser is not None:
+            browser, self._browser = self._browser, None
+            with contextlib.suppress(Exception):  # best effort: the browser process ends with us anyway
+                await browser.close()
+
+    async def _close(self) -> None:
+        """Close the browser, then end every task still pending on this loop (the browser's watchdog)."""
+        await self._close_browser()
+        tasks = [t for t in asyncio.all_tasks() if t is not asyncio.current_task()]
+        for task in tasks:
+            task.cancel()
+        await asyncio.gather(*tasks, return_exceptions=True)
+
+    @staticmethod
+    async def _command(tab: Any, method: str, params: dict[str, Any] | None = None,
+                       timeout_s: float = FIGURE_TIMEOUT_S) -> dict[str, Any]:
+        """One DevTools command; a protocol error or a script exception becomes a ReportError."""
+        response = await asyncio.wait_for(tab.send_command(method, params=params), timeout_s)
+        if "error" in response:
+            raise ReportError(f"Chromium refused {method}: {response['error'].get('message', response['error'])}")
+        result = response.get("result", {})
+        details = result.get("exceptionDetails")
+        if details:
+            text = details.get("exception", {}).get("description") or details.get("text") or "script error"
+            raise ReportError(f"a figure could not be drawn: {str(text).splitlines()[0]}")
+        return result
+
+    async def _navigate(self, tab: Any, uri: str, timeout_s: float) -> None:
+        await self._command(tab, "Page.enable")
+        loaded = tab.subscribe_once("Page.loadEventFired")
+        await self._command(tab, "Page.navigate", {"url": uri})
+        await asyncio.wait_for(loaded, timeout_s)
+
+    async def _tab(self) -> Any:
+        assert self._opened is not None
+        await asyncio.wrap_future(self._opened)
+        assert self._ready is not None
+        return await self._ready.get()
+
+    # -- figures ---------------------------------------------------------------------------------
 
     def defer(self, fig: go.Figure, label: str = "", height_px: int | None = None) -> str:
         """A placeholder for the figure, rendered later in a batch (see :meth:`flush`, :meth:`resolve`)."""
@@ -141,68 +251,81 @@ class FigureRenderer:
         return token
 
     def flush(self) -> None:
-        """Start rendering the queued figures in the background."""
+        """Start rendering the queued figures in the browser while the caller goes on."""
         if not self._pending:
             return
-        if self._pool is None or self._tmp is None:
-            raise RuntimeError("FigureRenderer.flush() outside its 'with' block")
         batch, self._pending = self._pending, []
-        self._batches.append(self._pool.submit(self._render_batch, batch, Path(self._tmp.name)))
+        jobs = [(token, label, height, fig.to_json(validate=False)) for token, fig, label, height in batch]
+        self._batches.append(self._submit(self._render(jobs)))
 
-    def _render_batch(self, batch: list[tuple[str, go.Figure, str, int]], folder: Path) -> dict[str, str]:
-        import kaleido
-
-        jobs = []
-        for token, fig, _, height in batch:
-            name = re.sub(r"\D", "", token)
-            jobs.append({"fig": fig, "path": str(folder / f"figure-{name}.svg"),
-                         "opts": {"format": "svg", "width": self.width_px, "height": height}})
+    async def _render(self, jobs: list[tuple[str, str, int, str]]) -> dict[str, str]:
+        tab = await self._tab()
         try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                kaleido.write_fig_from_object_sync(jobs, cancel_on_error=True)
-        except Exception as exc:  # kaleido reports browser trouble with many exception types
-            raise _render_error(exc) from exc
-        out = {}
-        for (token, _, label, _), job in zip(batch, jobs, strict=True):
-            text = Path(str(job["path"])).read_text(encoding="utf-8")
-            out[token] = inline_svg(text, "f" + re.sub(r"\D", "", token) + "-", label)
-        return out
+            out = {}
+            for token, label, height, fig_json in jobs:
+                expr = f"renderFigure({fig_json}, {self.width_px}, {height})"
+                result = await self._command(tab, "Runtime.evaluate",
+                                             {"expression": expr, "awaitPromise": True, "returnByValue": True})
+                svg = result.get("result", {}).get("value")
+                if not isinstance(svg, str) or "<svg" not in svg:
+                    raise ReportError(f"a figure could not be drawn: {label}")
+                out[token] = inline_svg(svg, "f" + re.sub(r"\D", "", token) + "-", label)
+            return out
+        finally:
+            assert self._ready is not None
+            self._ready.put_nowait(tab)
 
     def resolve(self, html: str) -> str:
         """The document with every placeholder replaced by its rendered SVG."""
         self.flush()
         svgs: dict[str, str] = {}
-        for batch in self._batches:
-            svgs.update(batch.result())
-        self._batches = []
+        try:
+            for batch in self._batches:
+                svgs.update(batch.result())
+        except ReportError:
+            raise
+        except Exception as exc:  # a timeout or a closed browser
+            raise ReportError(f"could not render the report's figures in Chromium ({_first_line(exc)})") from exc
+        finally:
+            self._batches = []
         return re.sub(r"<!--siteharvest-figure-\d+-->", lambda m: svgs.get(m.group(0), ""), html)
 
+    # -- printing --------------------------------------------------------------------------------
 
-def _render_error(exc: BaseException) -> ReportError:
-    first = str(exc).splitlines()[0] if str(exc) else ""
-    return ReportError(f"could not render a figure with Chromium through kaleido: {type(exc).__name__}: {first}")
+    def pdf(self, html: str, *, timeout_s: float = PDF_TIMEOUT_S) -> bytes:
+        """Print a finished HTML document to PDF: paper and margins from the page's CSS, else A4."""
+        assert self._tmp is not None, "ReportBrowser.pdf() outside its 'with' block"
+        page = Path(self._tmp.name) / f"report-{next(self._count)}.html"
+        page.write_text(html, encoding="utf-8")
+        try:
+            return self._submit(self._print(page.as_uri(), timeout_s)).result(timeout=timeout_s + 5)
+        except ReportError:
+            raise
+        except TimeoutError:
+            raise ReportError(f"Chromium did not finish printing the report within {timeout_s:.0f} s") from None
+        except Exception as exc:
+            raise ReportError(f"Chromium could not print the report to PDF ({_first_line(exc)})") from exc
+        finally:
+            page.unlink(missing_ok=True)
+
+    async def _print(self, uri: str, timeout_s: float) -> bytes:
+        tab = await self._tab()
+        try:
+            await self._navigate(tab, uri, timeout_s)
+            result = await self._command(tab, "Page.printToPDF",
+                                         {"preferCSSPageSize": True, "printBackground": True,
+                                          "displayHeaderFooter": False, "paperWidth": A4_IN[0],
+                                          "paperHeight": A4_IN[1]}, timeout_s)
+            data = base64.b64decode(result.get("data", ""))
+            if not data.startswith(b"%PDF"):
+                raise ReportError("Chromium returned no PDF")
+            return data
+        finally:
+            assert self._ready is not None
+            self._ready.put_nowait(tab)
 
 
 def html_to_pdf(html: str, *, timeout_s: float = PDF_TIMEOUT_S) -> bytes:
-    """Print an HTML document to PDF with headless Chromium (A4 and margins come from the page's CSS)."""
-    exe = chromium_path()
-    with tempfile.TemporaryDirectory(prefix="siteharvest-report-") as tmp:
-        folder = Path(tmp)
-        page = folder / "report.html"
-        out = folder / "report.pdf"
-        page.write_text(html, encoding="utf-8")
-        cmd = [str(exe), *CHROMIUM_FLAGS, f"--user-data-dir={folder / 'profile'}", f"--print-to-pdf={out}",
-               page.as_uri()]
-        try:
-            proc = subprocess.run(cmd, cwd=folder, capture_output=True, timeout=timeout_s, check=False)
-        except subprocess.TimeoutExpired:
-            raise ReportError(f"Chromium did not finish printing the report within {timeout_s:.0f} s") from None
-        except OSError as exc:
-            raise ReportError(f"could not start Chromium ({exe}): {exc.strerror or exc}") from None
-        if not out.is_file() or out.stat().st_size == 0:
-            lines = [ln for ln in proc.stderr.decode("utf-8", "replace").splitlines()
-                     if ln.strip() and "dbus" not in ln.lower()]
-            raise ReportError(f"Chromium could not print the report to PDF (exit {proc.returncode}"
-                              + (f": {lines[-1].strip()[:200]}" if lines else "") + ")")
-        return out.read_bytes()
+    """Print an HTML document to PDF with a browser of its own (A4 and margins come from the page's CSS)."""
+    with ReportBrowser() as browser:
+        return browser.pdf(html, timeout_s=timeout_s)
