@@ -48,6 +48,8 @@ LINEAR_KNOBS = {("solar", "area_cm2"), ("indoor_light", "area_cm2"), ("thermoele
 SMALLER_IS_MORE = {("rf", "distance_m")}
 # In a sizing map a first wake later than this counts as none (NaN / null): 90 days.
 FIRST_WAKE_HORIZON_H = 90 * 24
+# Years per kernel call in weather_risk: bounds memory to the hourly arrays of this many years.
+RISK_CHUNK_YEARS = 100
 
 
 @dataclass
@@ -397,28 +399,35 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
     """Deficit days of each source (and all together) over ``years`` resampled years.
 
     Each year is run twice in a row and counted the second time, so its 1 January store state is
-    what the year itself leaves (as for the single year). One kernel call per case.
+    what the year itself leaves (as for the single year). One kernel call per case and per chunk of
+    :data:`RISK_CHUNK_YEARS` years, which bounds memory (hourly arrays of a chunk, not of every year)
+    without changing a result: the years are independent and drawn up front.
     """
     sig = day_signatures(prep)
     day_map = resampled_days(sig, years, seed)
-    hours = hours_from_days(day_map)
     rng = np.random.default_rng(seed + 1)
     down = outage_mask(years, outage_rate_per_year, outage_mean_days, rng)
-    allowed = prep.charge_allowed[hours]
-    per_source_run, per_source_cold = [], []
-    for h in prep.harvests:
-        run, cold = h.running_w[hours], h.cold_w[hours]
-        if h.kind in OUTAGE_KINDS and down.any():
-            run, cold = np.where(down, 0.0, run), np.where(down, 0.0, cold)
-        per_source_run.append(run)
-        per_source_cold.append(cold)
-    cases = [(h, r, c) for h, r, c in zip(prep.harvests, per_source_run, per_source_cold, strict=True)]
     both = combine(prep.harvests)
-    cases.append((both, np.sum(per_source_run, axis=0), np.sum(per_source_cold, axis=0)))
-    results: dict[str, np.ndarray] = {}
-    for h, run, cold in cases:
-        lv = store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v, quiescent_w=h.quiescent_w)
-        res = simulate(run * SECONDS_PER_HOUR, prep.demand_j, StoreArrays.stack([lv] * years),
-                       cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, steady_year=True)
-        results[h.id] = res.dark_days.sum(axis=1)
+    levels = {h.id: store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v, quiescent_w=h.quiescent_w)
+              for h in [*prep.harvests, both]}
+    chunks: dict[str, list[np.ndarray]] = {h.id: [] for h in [*prep.harvests, both]}
+    for start in range(0, years, RISK_CHUNK_YEARS):
+        rows = slice(start, min(years, start + RISK_CHUNK_YEARS))
+        hours, down_c = hours_from_days(day_map[rows]), down[rows]
+        n = hours.shape[0]
+        allowed = prep.charge_allowed[hours]
+        per_source_run, per_source_cold = [], []
+        for h in prep.harvests:
+            run, cold = h.running_w[hours], h.cold_w[hours]
+            if h.kind in OUTAGE_KINDS and down_c.any():
+                run, cold = np.where(down_c, 0.0, run), np.where(down_c, 0.0, cold)
+            per_source_run.append(run)
+            per_source_cold.append(cold)
+        cases = list(zip(prep.harvests, per_source_run, per_source_cold, strict=True))
+        cases.append((both, np.sum(per_source_run, axis=0), np.sum(per_source_cold, axis=0)))
+        for h, run, cold in cases:
+            res = simulate(run * SECONDS_PER_HOUR, prep.demand_j, StoreArrays.stack([levels[h.id]] * n),
+                           cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, steady_year=True)
+            chunks[h.id].append(res.dark_days.sum(axis=1))
+    results = {k: np.concatenate(v) for k, v in chunks.items()}
     return WeatherRisk(years, seed, results, day_map)

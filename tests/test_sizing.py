@@ -10,6 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from shared import BASE_SITE
 
+from siteharvest import sizing
 from siteharvest.assess import prepare
 from siteharvest.cli import main
 from siteharvest.kernel import StoreArrays, simulate
@@ -177,6 +178,24 @@ def test_outages_only_hurt(tmp_path):
     rough = weather_risk(prep, years=60, seed=5, outage_rate_per_year=6, outage_mean_days=4)
     assert rough.summary("panel")["mean"] >= calm.summary("panel")["mean"]
     assert rough.summary("panel")["mean"] > 0
+
+
+def test_weather_risk_in_chunks_equals_all_years_at_once(monkeypatch):
+    # Years are drawn up front and simulated independently, so cutting them into kernel calls of a
+    # few years (with outages that must stay with their own year) changes no year's deficit days.
+    text = (BASE_SITE.replace('kind = "solar"\narea_cm2 = 3.0\ntilt_deg = 45',
+                              'kind = "thermoelectric"\nhot_side = 60'))
+    prep = prepare(parse_site_text(text))
+    kwargs = {"years": 23, "seed": 4, "outage_rate_per_year": 5, "outage_mean_days": 3}
+    monkeypatch.setattr(sizing, "RISK_CHUNK_YEARS", 1000)
+    whole = weather_risk(prep, **kwargs)
+    monkeypatch.setattr(sizing, "RISK_CHUNK_YEARS", 5)
+    chunked = weather_risk(prep, **kwargs)
+    assert set(whole.deficit_days) == set(chunked.deficit_days)
+    for case, days in whole.deficit_days.items():
+        assert days.shape == (23,)
+        np.testing.assert_array_equal(days, chunked.deficit_days[case])
+    assert whole.deficit_days["panel"].std() > 0  # the outages make the years differ
 
 
 def test_size_cli_json(site_file, capsys):
