@@ -406,16 +406,17 @@ def portfolio(tab: str, spots: dict[str, Any], files: dict[str, str] | None) -> 
     return rows
 
 
-def open_from_portfolio(active_cell: dict[str, Any] | None, data: list[dict[str, Any]] | None,
-                        derived: list[dict[str, Any]] | None) -> Any:
-    """Clicking a spot's row in the portfolio opens it."""
-    if not active_cell or not data:
+def open_from_portfolio(clicked: dict[str, Any] | None, rows: list[dict[str, Any]] | None) -> str:
+    """Clicking a spot's row in the portfolio opens it.
+
+    ``clicked`` is the grid's ``cellClicked``; the grid names each row by its spot's key (``getRowId``), so
+    the spot opened is the clicked row's own whatever the order the rows are sorted in on screen.
+    """
+    row_id = (clicked or {}).get("rowId")
+    row = next((r for r in rows or [] if row_id is not None and r.get("key") == row_id), None)
+    if row is None:
         raise PreventUpdate
-    rows = derived or data
-    row = active_cell.get("row")
-    if row is None or row >= len(rows):
-        raise PreventUpdate
-    return rows[row]["key"]
+    return str(row["key"])
 
 
 # --------------------------------------------------------------------------------------------------
@@ -505,14 +506,13 @@ def register(app: dash.Dash) -> None:
     )(case_views)
 
     app.callback(
-        Output(ids.PORTFOLIO_TABLE, "data"),
+        Output(ids.PORTFOLIO_TABLE, "rowData"),
         Input(ids.TABS, "value"), Input(ids.SPOTS, "data"), State(ids.FILES, "data"),
     )(portfolio)
 
     app.callback(
         Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
-        Input(ids.PORTFOLIO_TABLE, "active_cell"), State(ids.PORTFOLIO_TABLE, "data"),
-        State(ids.PORTFOLIO_TABLE, "derived_virtual_data"),
+        Input(ids.PORTFOLIO_TABLE, "cellClicked"), State(ids.PORTFOLIO_TABLE, "rowData"),
         prevent_initial_call=True,
     )(open_from_portfolio)
 

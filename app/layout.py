@@ -2,16 +2,19 @@
 
 from __future__ import annotations
 
-import warnings
+import json
 from typing import Any
 
-from dash import dash_table, dcc, html
+import dash_ag_grid as dag
+from dash import dcc, html
+
+from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 
 from . import ids
 from .editor import render_editor
 from .figures import empty_figure
 from .layout_study import report_buttons, report_message, risk_tab, sizing_tab
-from .tables import PORTFOLIO_COLUMNS, VERDICT_CLASS, VERDICT_MEANING
+from .tables import NOT_ASSESSED, PORTFOLIO_COLUMNS, VERDICT_CLASS, VERDICT_MEANING
 
 FONT_STACK = ('system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "Noto Sans", "Liberation Sans", '
               'Arial, sans-serif')
@@ -150,25 +153,67 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
     ])
 
 
-def _portfolio_table() -> Any:
-    with warnings.catch_warnings():
-        # DataTable is deprecated in favour of a grid package we do not ship; it still works in Dash 4.
-        warnings.simplefilter("ignore", DeprecationWarning)
-        return dash_table.DataTable(
-            id=ids.PORTFOLIO_TABLE, columns=PORTFOLIO_COLUMNS, data=[], sort_action="native",
-            style_as_list_view=True, cell_selectable=True,
-            style_table={"overflowX": "auto"},
-            style_header={"fontWeight": "600", "backgroundColor": "#eef2f6", "whiteSpace": "normal",
-                          "height": "auto", "textAlign": "left"},
-            style_cell={"fontFamily": FONT_STACK, "fontSize": "13px", "padding": "6px 8px",
-                        "textAlign": "left", "whiteSpace": "normal", "height": "auto"},
-            style_cell_conditional=[{"if": {"column_type": "numeric"}, "textAlign": "right"},
-                                    {"if": {"column_id": "spot"}, "minWidth": "200px"},
-                                    *[{"if": {"column_id": c}, "whiteSpace": "nowrap"}
-                                      for c in ("best", "verdict", "together")]],
-            style_data_conditional=[
-                {"if": {"filter_query": f'{{verdict}} = "{w}"', "column_id": "verdict"},
-                 "fontWeight": "600", "color": c}
-                for w, c in (("self-sufficient", "#00664a"), ("insufficient", "#a63f00"),
-                             ("never starts", "#a63f00"))],
-        )
+# The portfolio grid. Its expressions are strings that dash-ag-grid evaluates in the browser (no eval).
+MISSING = "—"
+NUMBER_TEXT = (f"params.value == null ? '{MISSING}' : params.value === 0 ? '0' : Math.abs(params.value) < 1000 "
+               "? d3.format('.3~g')(params.value) : d3.format(',.0f')(params.value)")  # like tables.fmt
+TEXT_OR_DASH = f"params.value == null || params.value === '' ? '{MISSING}' : params.value"
+IS_NOT_ASSESSED = f"params.data.verdict != null && params.data.verdict.indexOf({json.dumps(NOT_ASSESSED)}) === 0"
+GOOD, BAD = "#00664a", "#a63f00"
+VERDICT_STYLE = {
+    "styleConditions": [
+        *[{"condition": f"params.value === {json.dumps(words)}", "style": {"color": colour, "fontWeight": "650"}}
+          for words, colour in ((VERDICTS[0][1], GOOD), (INSUFFICIENT, BAD), (NEVER_STARTS, BAD))],
+        {"condition": IS_NOT_ASSESSED, "style": {"color": BAD, "fontWeight": "400"}},
+    ],
+    "defaultStyle": {"fontWeight": "650"},
+}
+# (flex, minimum width in px) of each column; together they fit the tab in a 1440 px wide window. A number's
+# column leaves room for its longest header word (the sort arrow sits in the header's corner, see the CSS).
+PORTFOLIO_WIDTHS = {"spot": (2.6, 180), "best": (1.1, 100), "verdict": (1.1, 112), "together": (1.1, 104),
+                    "file": (1.2, 110)}
+NUMBER_WIDTH = (0.9, 74)
+
+
+def _theme() -> dict[str, str]:
+    """The grid's built-in theme with the dashboard's font and colours (see assets/siteharvest.css)."""
+    params = {"fontFamily": FONT_STACK, "fontSize": 13, "headerFontSize": 12, "headerFontWeight": 650,
+              "foregroundColor": "#1d232b", "headerTextColor": "#24415f", "headerBackgroundColor": "#eef2f6",
+              "borderColor": "#d5dbe3", "rowBorder": {"color": "#edf0f4"}, "accentColor": "#0072B2",
+              "rowHoverColor": "#e8f2fa", "wrapperBorderRadius": 8, "spacing": 5, "cellHorizontalPadding": 6,
+              "headerColumnResizeHandleColor": "#c4ccd6"}
+    return {"function": f"themeQuartz.withParams({json.dumps(params)})"}
+
+
+def portfolio_column_defs() -> list[dict[str, Any]]:
+    """The grid's columns from PORTFOLIO_COLUMNS: numbers right-aligned, formatted, sorted as numbers."""
+    names = [c["id"] for c in PORTFOLIO_COLUMNS]
+    # a spot that could not be assessed: its message spans the verdict, number and all-together columns
+    error_span = names.index("together") - names.index("verdict") + 1
+    out = []
+    for col in PORTFOLIO_COLUMNS:
+        numeric = col["type"] == "numeric"
+        flex, min_width = PORTFOLIO_WIDTHS.get(col["id"], NUMBER_WIDTH)
+        d: dict[str, Any] = {"field": col["id"], "headerName": col["name"], "flex": flex, "minWidth": min_width,
+                             "valueFormatter": {"function": NUMBER_TEXT if numeric else TEXT_OR_DASH}}
+        if numeric:
+            d.update(type="numericColumn", cellDataType="number", cellClass=["ag-right-aligned-cell", "sh-grid-num"])
+        else:
+            d.update(cellDataType="text", wrapText=True, autoHeight=True)
+        if col["id"] == "verdict":
+            d.update(cellStyle=VERDICT_STYLE, colSpan={"function": f"{IS_NOT_ASSESSED} ? {error_span} : 1"})
+        out.append(d)
+    return out
+
+
+def _portfolio_table() -> dag.AgGrid:
+    """Every loaded spot, one row each; the grid names a row by its spot's key, so a click opens that spot."""
+    return dag.AgGrid(
+        id=ids.PORTFOLIO_TABLE, className="sh-grid", columnDefs=portfolio_column_defs(), rowData=[],
+        defaultColDef={"sortable": True, "resizable": True, "editable": False, "filter": False,
+                       "wrapHeaderText": True, "autoHeaderHeight": True, "suppressMovable": True},
+        getRowId="params.data.key",
+        dashGridOptions={"domLayout": "autoHeight", "theme": _theme(), "animateRows": False,
+                         "localeText": {"noRowsToShow": "No spots to show."}},
+        style={"height": None, "width": "100%"},
+    )

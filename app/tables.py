@@ -89,6 +89,7 @@ def best_source(a: Assessment) -> CaseResult:
     return min(a.sources, key=rank) if a.sources else a.combined
 
 
+NOT_ASSESSED = "could not assess"  # how a portfolio row whose spot cannot be simulated begins its verdict
 PORTFOLIO_COLUMNS = [
     {"id": "spot", "name": "Spot", "type": "text"},
     {"id": "best", "name": "Best source", "type": "text"},
@@ -105,7 +106,7 @@ PORTFOLIO_COLUMNS = [
 def portfolio_row(key: str, file: str, a: Assessment | None, error: str = "", name: str = "") -> dict[str, Any]:
     """One row of the portfolio table (numbers kept as numbers so the table sorts them)."""
     if a is None:
-        return {"key": key, "spot": name or key, "best": "—", "verdict": f"could not assess: {error}",
+        return {"key": key, "spot": name or key, "best": "—", "verdict": f"{NOT_ASSESSED}: {error}",
                 "deficit_days": None, "first_wake_h": None, "energy_wh": None, "demand_uw": None,
                 "together": "—", "sources": None, "file": file}
     best = best_source(a)

@@ -12,6 +12,7 @@ import contextvars
 import copy
 import json
 import re
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -308,6 +309,54 @@ def test_portfolio_lists_every_spot_with_its_best_source(four, site_file):
     assert rows[1]["best"] == "panel"
 
 
+def test_clicking_a_portfolio_row_opens_that_rows_spot_whatever_the_sort(four, site_file):
+    spots, key = four
+    base_spots, _ = load_records([site_file()])
+    spots = {**spots, **{f"b-{k}": v for k, v in base_spots.items()}}
+    rows = cb.portfolio(ids.TAB_PORTFOLIO, spots, {})
+    assert all(isinstance(r[c], int | float) for r in rows for c in ("deficit_days", "energy_wh"))  # sortable
+    other = rows[1]["key"]
+    # the user sorted the grid so that the second spot now sits at the top: the click names the row's own key
+    # (the grid's row id is the row's "key"), and its place on screen does not matter
+    clicked = {"rowIndex": 0, "rowId": other, "colId": "energy_wh", "value": rows[1]["energy_wh"], "timestamp": 1}
+    assert cb.open_from_portfolio(clicked, rows) == other
+    assert cb.open_from_portfolio({**clicked, "rowId": key}, rows) == key
+    assert cb.open_from_portfolio({**clicked, "rowId": key}, list(reversed(rows))) == key
+    for nothing in (None, {}, {"rowIndex": 0}, {**clicked, "rowId": "a spot no longer loaded"}):
+        with pytest.raises(PreventUpdate):
+            cb.open_from_portfolio(nothing, rows)
+    with pytest.raises(PreventUpdate):
+        cb.open_from_portfolio(clicked, None)
+
+
+def test_portfolio_grid_keeps_the_columns_and_sorts_numbers_as_numbers():
+    from app.layout import _portfolio_table
+    from app.tables import PORTFOLIO_COLUMNS
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", DeprecationWarning)  # no deprecated table component any more
+        grid = _portfolio_table()
+    assert type(grid).__name__ == "AgGrid" and grid.id == ids.PORTFOLIO_TABLE
+    assert grid.getRowId == "params.data.key"  # a click names the row's spot key, whatever the sort order
+    defs = grid.columnDefs
+    assert [(d["field"], d["headerName"]) for d in defs] == [(c["id"], c["name"]) for c in PORTFOLIO_COLUMNS]
+    for d, c in zip(defs, PORTFOLIO_COLUMNS, strict=True):
+        if c["type"] == "numeric":
+            assert d["type"] == "numericColumn" and d["cellDataType"] == "number"  # right-aligned, numeric sort
+            assert "ag-right-aligned-cell" in d["cellClass"]
+        assert "'—'" in d["valueFormatter"]["function"]  # missing values read as a dash
+    assert grid.defaultColDef["sortable"] and not grid.defaultColDef["editable"]
+    assert grid.defaultColDef["wrapHeaderText"] and grid.defaultColDef["autoHeaderHeight"]
+    assert "pagination" not in grid.dashGridOptions and grid.dashGridOptions["domLayout"] == "autoHeight"
+    # wired: the rows go to the grid's rowData; a cell click (with the rows) opens a spot
+    wiring = create_app().callback_map
+    assert f"{ids.PORTFOLIO_TABLE}.rowData" in wiring
+    opener = next(v for k, v in wiring.items() if k.startswith(f"{ids.SPOT_PICKER}.value")
+                  and any(i["id"] == ids.PORTFOLIO_TABLE for i in v["inputs"]))
+    assert opener["inputs"] == [{"id": ids.PORTFOLIO_TABLE, "property": "cellClicked"}]
+    assert opener["state"] == [{"id": ids.PORTFOLIO_TABLE, "property": "rowData"}]
+
+
 def test_case_views_default_to_the_worst_week(four):
     spots, key = four
     year, calendar, week, caption = cb.case_views("lamp-cell", "worst", spots, key, {})
@@ -420,6 +469,6 @@ def test_editor_rebuild_and_spot_choice(four):
     assert shown["store"] is True and shown["place"] is False
     assert cb.picker_options(spots) == [{"label": "four-source check spot", "value": key}]
     rows = [{"key": "a"}, {"key": key}]
-    assert cb.open_from_portfolio({"row": 1, "column": 0}, rows, None) == key
+    assert cb.open_from_portfolio({"rowIndex": 1, "rowId": key, "colId": "spot"}, rows) == key
     with pytest.raises(PreventUpdate):
-        cb.open_from_portfolio(None, rows, None)
+        cb.open_from_portfolio(None, rows)

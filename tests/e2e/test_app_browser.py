@@ -47,12 +47,69 @@ def test_opens_on_a_sample_spot_and_shows_every_view(watched_page: Page, artifac
             expect(view.locator(".main-svg").first).to_be_visible()
             expect(view.locator(".g-ytitle").first).to_contain_text("[")  # a unit on the axis
         else:
-            expect(view.locator("tbody tr td[data-dash-column='spot']")).to_have_count(len(SAMPLES))
+            expect(view.locator(".ag-row .ag-cell[col-id='spot']")).to_have_count(len(SAMPLES))
         page.wait_for_timeout(300)  # let plotly finish drawing before the picture
         page.locator(".sh-tabs-wrap").screenshot(path=str(artifacts / f"view-{label.split()[0].lower()}.png"))
     page.evaluate("window.scrollTo(0, 0)")
     box = page.locator(".sh-editor-pane").bounding_box()
     page.screenshot(path=str(artifacts / "editor.png"), clip=box)
+
+
+def grid_column(page: Page, column: str) -> list[str]:
+    """The texts of one portfolio column, top to bottom as shown (the grid may keep its rows in another DOM order).
+
+    A cell covered by a spanning cell of its row reads as ''.
+    """
+    return page.evaluate(
+        """(col) => [...document.querySelectorAll('#sh-portfolio-table .ag-center-cols-container .ag-row')]
+              .sort((a, b) => Number(a.getAttribute('row-index')) - Number(b.getAttribute('row-index')))
+              .map(r => r.querySelector(`.ag-cell[col-id="${col}"]`)?.innerText.trim() ?? '')""", column)
+
+
+def test_portfolio_lists_every_spot_sorts_and_opens_the_one_clicked(watched_page: Page, artifacts: Path):
+    page = watched_page
+    # a spot whose weather file is missing: it loads, but cannot be assessed
+    source = SAMPLES[-1]
+    original = load_site(source)
+    broken_name = "Spot with a missing weather file"
+    text = source.read_text(encoding="utf-8")
+    text = text.replace(f'name = "{original.spot.name}"', f'name = "{broken_name}"', 1)
+    text = text.replace(f'bundled = "{original.weather.bundled}"', 'file = "weather/missing.epw"', 1)
+    assert broken_name in text and "missing.epw" in text
+    page.locator("#sh-site-upload input[type=file]").set_input_files(files=[{
+        "name": "broken-spot.toml", "mimeType": "application/toml", "buffer": text.encode("utf-8")}])
+    expect(page.locator("#sh-site-upload-msg")).to_contain_text("Opened")
+    page.locator(".sh-tab", has_text="Portfolio").click()
+    grid = page.locator("#sh-portfolio-table")
+    spots = grid.locator(".ag-row .ag-cell[col-id='spot']")
+    expect(spots).to_have_count(len(SAMPLES) + 1)
+    names = [load_site(p).spot.name for p in SAMPLES]
+    assert sorted(grid_column(page, "spot")) == sorted([*names, broken_name])
+    broken_row = grid.locator(".ag-row", has=page.locator(".ag-cell[col-id='spot']", has_text=broken_name))
+    expect(broken_row.locator(".ag-cell[col-id='verdict']")).to_contain_text("could not assess")
+    expect(broken_row.locator(".ag-cell[col-id='verdict']")).to_contain_text("missing.epw")
+    expect(broken_row.locator(".ag-cell[col-id='best']")).to_have_text("—")
+    grid.screenshot(path=str(artifacts / "portfolio-broken-spot.png"))
+    # its message spans the verdict, number and all-together columns: not squeezed into one narrow column
+    for column in ("deficit_days", "first_wake_h", "energy_wh", "demand_uw", "together"):
+        expect(broken_row.locator(f".ag-cell[col-id='{column}']")).to_have_count(0)
+    expect(broken_row.locator(".ag-cell[col-id='file']")).to_have_text("broken-spot.toml")
+    # sorted by energy: as numbers, not as text (the broken spot has none: its message covers the column)
+    page.locator(".ag-header-cell[col-id='energy_wh'] .ag-header-cell-label").click()
+    expect(grid.locator(".ag-header-cell[col-id='energy_wh']")).to_have_attribute("aria-sort", "ascending")
+    shown = [t for t in grid_column(page, "energy_wh") if t]
+    assert len(shown) == len(SAMPLES)
+    values = [float(t.replace(",", "")) for t in shown]
+    assert values == sorted(values)
+    grid.screenshot(path=str(artifacts / "portfolio-sorted.png"))
+    # clicking a spot's row (after sorting) opens that spot
+    target = SOLAR_SPEC.spot.name
+    grid.locator(".ag-row .ag-cell[col-id='spot']", has_text=target).click()
+    expect(page.locator(".sh-status-name")).to_have_text(target)
+    expect(page.locator("#sh-spot-picker")).to_contain_text(target)
+    # and clicking the broken one opens it too, saying why it cannot be simulated
+    grid.locator(".ag-row .ag-cell[col-id='file']", has_text="broken-spot.toml").click()
+    expect(page.locator(".sh-status")).to_contain_text("cannot be simulated")
 
 
 def expected_energy(spec, tilt: float | None = None) -> str:
