@@ -27,15 +27,14 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, TypeVar
 
-import app
 from siteharvest.assess import Assessment, assess, build_context
 from siteharvest.errors import SiteInputError
 from siteharvest.site import SiteSpec, load_site, parse_site
 from siteharvest.weather import read_weather_file
 
-T = TypeVar("T")
+from .bundled import SAMPLE_SITES
 
-SAMPLE_SITES = Path(app.__file__).resolve().parents[1] / "sample_sites"
+T = TypeVar("T")
 
 
 class MemoCache:

@@ -7,10 +7,9 @@ from pathlib import Path
 import dash
 
 from . import callbacks
+from .bundled import ASSETS
 from .engine import load_records
 from .layout import build_layout
-
-ASSETS = Path(__file__).resolve().parents[1] / "assets"
 
 INDEX = """<!DOCTYPE html>
 <html lang="en">
