@@ -1,13 +1,15 @@
 """Sizing and weather-risk speed on a sample spot, against looping the single-run path.
 
 Targets (README): a 40 x 40 sizing map for one source <= 1 s; 500 weather years for one
-configuration <= 5 s; >= 30 times faster than calling the kernel once per configuration.
+configuration <= 5 s; 1,000 weather years of a three-source spot within 300 MB; >= 30 times faster
+than calling the kernel once per configuration.
 """
 
 from __future__ import annotations
 
 import statistics
 import time
+import tracemalloc
 from pathlib import Path
 
 import numpy as np
@@ -20,6 +22,7 @@ from siteharvest.store import store_levels
 from siteharvest.timegrid import SECONDS_PER_HOUR
 
 SPOT = Path(__file__).resolve().parents[1] / "sample_sites" / "corridor-window.toml"
+BUSY_SPOT = SPOT.with_name("plant-room.toml")
 
 
 def timed(fn, repeat: int = 3) -> float:
@@ -39,6 +42,14 @@ def main() -> None:
     print(f"sizing map 40 x 40 ({sid}): {map_s * 1e3:.0f} ms (target <= 1000 ms)")
     risk_s = timed(lambda: weather_risk(prep, years=500), repeat=1)
     print(f"weather risk, 500 years, {len(prep.harvests)} sources + together: {risk_s:.2f} s (target <= 5 s)")
+    busy = prepare(load_site(BUSY_SPOT))
+    weather_risk(busy, years=10)
+    tracemalloc.start()
+    weather_risk(busy, years=1000)
+    peak_mb = tracemalloc.get_traced_memory()[1] / 1e6
+    tracemalloc.stop()
+    print(f"weather risk, 1,000 years, {len(busy.harvests)} sources + together: peak {peak_mb:.0f} MB allocated "
+          "(target <= 300 MB)")
 
     # the same steady-state map, one kernel call per configuration (the single-run path in a loop)
     spec = prep.spec.source[0]
