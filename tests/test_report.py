@@ -22,7 +22,7 @@ import plotly.graph_objects as go
 import pytest
 from pypdf import PdfReader
 
-from app.report import build_report, make_report, write_report
+from app.report import build_report, make_report, render, write_report
 from app.report.html import fmt_energy_wh, fmt_sig, fmt_size, print_ready_monthly
 from app.report.methods import collect_references, modules_for, reference_entries
 from app.report.render import ReportBrowser, _unique_ids, html_to_pdf, inline_svg
@@ -347,14 +347,16 @@ def test_a_program_that_is_no_browser_is_one_clear_line(tmp_path, capsys, monkey
 
 
 @needs_chromium
-def test_one_browser_renders_the_figures_and_prints_a4():
+def test_one_browser_renders_the_figures_and_prints_a4(monkeypatch):
     # ISO 216: A4 is 210 mm x 297 mm, i.e. 595.28 pt x 841.89 pt (1 pt = 1/72 in).
+    monkeypatch.setattr(render, "STREAM_PIECE_BYTES", 1024)  # the PDF arrives in several pieces
     fig = go.Figure(go.Scatter(x=[0, 1, 2], y=[1, 3, 2], name="probe"), layout={"title": {"text": "probe"}})
     with ReportBrowser() as browser:
         token = browser.defer(fig, "probe figure", height_px=300)
         body = browser.resolve(f"<!doctype html><html><body>{token}</body></html>")
         pdf = browser.pdf(body)
     assert token not in body and body.count("<svg") >= 1 and 'aria-label="probe figure"' in body
+    assert len(pdf) > 3 * 1024 and pdf.rstrip().endswith(b"%%EOF")
     page = PdfReader(io.BytesIO(pdf)).pages
     assert len(page) == 1
     box = page[0].mediabox

@@ -32,6 +32,7 @@ START_TIMEOUT_S = 60.0
 FIGURE_TIMEOUT_S = 60.0
 # Besides choreographer's own flags: no calls home, no QUIC probes (this machine has no network).
 EXTRA_FLAGS = ("--disable-background-networking", "--disable-quic")
+STREAM_PIECE_BYTES = 4 << 20  # how much of the printed PDF one DevTools message carries
 A4_IN = (210 / 25.4, 297 / 25.4)  # paper when the page's CSS names none (ISO 216 A4, in inches)
 T = TypeVar("T")
 
@@ -312,17 +313,35 @@ class ReportBrowser:
         tab = await self._tab()
         try:
             await self._navigate(tab, uri, timeout_s)
+            # The PDF comes back as a stream read in pieces, so a long portfolio is no single huge message.
             result = await self._command(tab, "Page.printToPDF",
                                          {"preferCSSPageSize": True, "printBackground": True,
                                           "displayHeaderFooter": False, "paperWidth": A4_IN[0],
-                                          "paperHeight": A4_IN[1]}, timeout_s)
-            data = base64.b64decode(result.get("data", ""))
+                                          "paperHeight": A4_IN[1], "transferMode": "ReturnAsStream"}, timeout_s)
+            data = await self._read_stream(tab, result.get("stream", ""), timeout_s)
             if not data.startswith(b"%PDF"):
                 raise ReportError("Chromium returned no PDF")
             return data
         finally:
             assert self._ready is not None
             self._ready.put_nowait(tab)
+
+
+    async def _read_stream(self, tab: Any, handle: str, timeout_s: float) -> bytes:
+        """The whole of a DevTools stream, read in pieces of :data:`STREAM_PIECE_BYTES`."""
+        if not handle:
+            raise ReportError("Chromium returned no PDF")
+        pieces = []
+        try:
+            while True:
+                piece = await self._command(tab, "IO.read", {"handle": handle, "size": STREAM_PIECE_BYTES}, timeout_s)
+                text = piece.get("data", "")
+                pieces.append(base64.b64decode(text) if piece.get("base64Encoded") else text.encode("latin-1"))
+                if piece.get("eof", True):
+                    return b"".join(pieces)
+        finally:
+            with contextlib.suppress(Exception):
+                await self._command(tab, "IO.close", {"handle": handle})
 
 
 def html_to_pdf(html: str, *, timeout_s: float = PDF_TIMEOUT_S) -> bytes:
