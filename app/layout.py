@@ -168,10 +168,10 @@ VERDICT_STYLE = {
     ],
     "defaultStyle": {"fontWeight": "650"},
 }
-# (flex, minimum width in px) of each column; together they fit the tab in a 1440 px wide window. A number's
-# column leaves room for its longest header word (the sort arrow sits in the header's corner, see the CSS).
-PORTFOLIO_WIDTHS = {"spot": (2.6, 180), "best": (1.1, 100), "verdict": (1.1, 112), "together": (1.1, 104),
-                    "file": (1.2, 110)}
+# (flex, minimum width in px) of each column; the minimums add up to 800 px, which fits the tab in a
+# 1280 px wide window with the verdicts on one line. A number's column leaves room for its longest
+# header word (the sort arrow sits in the header's corner, see the CSS).
+PORTFOLIO_WIDTHS = {"spot": (2.8, 170), "best": (1.1, 100), "verdict": (1.1, 118), "together": (1.1, 116)}
 NUMBER_WIDTH = (0.9, 74)
 
 
@@ -200,6 +200,8 @@ def portfolio_column_defs() -> list[dict[str, Any]]:
             d.update(type="numericColumn", cellDataType="number", cellClass=["ag-right-aligned-cell", "sh-grid-num"])
         else:
             d.update(cellDataType="text", wrapText=True, autoHeight=True)
+        if col["id"] == "spot":  # the site file under the name (assets/dashAgGridComponentFunctions.js)
+            d.update(cellRenderer="SpotWithFile", tooltipField="file")
         if col["id"] == "verdict":
             d.update(cellStyle=VERDICT_STYLE, colSpan={"function": f"{IS_NOT_ASSESSED} ? {error_span} : 1"})
         out.append(d)

@@ -91,7 +91,7 @@ def best_source(a: Assessment) -> CaseResult:
 
 NOT_ASSESSED = "could not assess"  # how a portfolio row whose spot cannot be simulated begins its verdict
 PORTFOLIO_COLUMNS = [
-    {"id": "spot", "name": "Spot", "type": "text"},
+    {"id": "spot", "name": "Spot and site file", "type": "text"},
     {"id": "best", "name": "Best source", "type": "text"},
     {"id": "verdict", "name": "Its verdict", "type": "text"},
     {"id": "deficit_days", "name": "Deficit days [d/yr]", "type": "numeric"},
@@ -99,7 +99,6 @@ PORTFOLIO_COLUMNS = [
     {"id": "energy_wh", "name": "Its energy [Wh/yr]", "type": "numeric"},
     {"id": "demand_uw", "name": "Node demand [µW]", "type": "numeric"},
     {"id": "together", "name": "All together", "type": "text"},
-    {"id": "file", "name": "Site file", "type": "text"},
 ]
 
 

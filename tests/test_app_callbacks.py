@@ -345,6 +345,10 @@ def test_portfolio_grid_keeps_the_columns_and_sorts_numbers_as_numbers():
             assert d["type"] == "numericColumn" and d["cellDataType"] == "number"  # right-aligned, numeric sort
             assert "ag-right-aligned-cell" in d["cellClass"]
         assert "'—'" in d["valueFormatter"]["function"]  # missing values read as a dash
+    spot = next(d for d in defs if d["field"] == "spot")
+    assert spot["cellRenderer"] == "SpotWithFile" and spot["tooltipField"] == "file"  # the file under the name
+    renderers = (ROOT / "assets" / "dashAgGridComponentFunctions.js").read_text(encoding="utf-8")
+    assert "dagcomponentfuncs.SpotWithFile" in renderers and "props.data.file" in renderers
     assert grid.defaultColDef["sortable"] and not grid.defaultColDef["editable"]
     assert grid.defaultColDef["wrapHeaderText"] and grid.defaultColDef["autoHeaderHeight"]
     assert "pagination" not in grid.dashGridOptions and grid.dashGridOptions["domLayout"] == "autoHeight"

@@ -84,7 +84,10 @@ def test_portfolio_lists_every_spot_sorts_and_opens_the_one_clicked(watched_page
     spots = grid.locator(".ag-row .ag-cell[col-id='spot']")
     expect(spots).to_have_count(len(SAMPLES) + 1)
     names = [load_site(p).spot.name for p in SAMPLES]
-    assert sorted(grid_column(page, "spot")) == sorted([*names, broken_name])
+    # each spot cell: the spot's name, and under it its site file
+    shown = [cell.splitlines() for cell in grid_column(page, "spot")]
+    assert sorted(lines[0] for lines in shown) == sorted([*names, broken_name])
+    assert sorted(lines[-1] for lines in shown) == sorted([*(p.name for p in SAMPLES), "broken-spot.toml"])
     broken_row = grid.locator(".ag-row", has=page.locator(".ag-cell[col-id='spot']", has_text=broken_name))
     expect(broken_row.locator(".ag-cell[col-id='verdict']")).to_contain_text("could not assess")
     expect(broken_row.locator(".ag-cell[col-id='verdict']")).to_contain_text("missing.epw")
@@ -93,7 +96,7 @@ def test_portfolio_lists_every_spot_sorts_and_opens_the_one_clicked(watched_page
     # its message spans the verdict, number and all-together columns: not squeezed into one narrow column
     for column in ("deficit_days", "first_wake_h", "energy_wh", "demand_uw", "together"):
         expect(broken_row.locator(f".ag-cell[col-id='{column}']")).to_have_count(0)
-    expect(broken_row.locator(".ag-cell[col-id='file']")).to_have_text("broken-spot.toml")
+    expect(broken_row.locator(".ag-cell[col-id='spot'] .sh-grid-spot-file")).to_have_text("broken-spot.toml")
     # sorted by energy: as numbers, not as text (the broken spot has none: its message covers the column)
     page.locator(".ag-header-cell[col-id='energy_wh'] .ag-header-cell-label").click()
     expect(grid.locator(".ag-header-cell[col-id='energy_wh']")).to_have_attribute("aria-sort", "ascending")
@@ -108,7 +111,7 @@ def test_portfolio_lists_every_spot_sorts_and_opens_the_one_clicked(watched_page
     expect(page.locator(".sh-status-name")).to_have_text(target)
     expect(page.locator("#sh-spot-picker")).to_contain_text(target)
     # and clicking the broken one opens it too, saying why it cannot be simulated
-    grid.locator(".ag-row .ag-cell[col-id='file']", has_text="broken-spot.toml").click()
+    grid.locator(".ag-row .ag-cell[col-id='spot']", has_text="broken-spot.toml").click()
     expect(page.locator(".sh-status")).to_contain_text("cannot be simulated")
 
 
