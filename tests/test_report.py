@@ -25,7 +25,7 @@ from pypdf import PdfReader
 from app.report import build_report, make_report, render, write_report
 from app.report.html import fmt_energy_wh, fmt_sig, fmt_size, print_ready_monthly
 from app.report.methods import collect_references, modules_for, reference_entries
-from app.report.render import ReportBrowser, _unique_ids, html_to_pdf, inline_svg
+from app.report.render import ReportBrowser, ReportError, _unique_ids, html_to_pdf, inline_svg
 from app.report.study import expand_inputs, fingerprint, input_files, study_spot
 from siteharvest import __version__
 from siteharvest.assess import prepare
@@ -206,9 +206,22 @@ def offline_browser(playwright):
 
 
 @needs_chromium
-def test_html_opens_offline_without_errors_or_requests(corridor_html, offline_browser):
-    problems: list[str] = []
-    page = offline_browser.new_page()
+def test_a_figure_plotly_cannot_draw_is_one_clear_line():
+    # plotly.js cannot draw a heatmap on a category axis that a bar trace sets up (it throws in the page)
+    bad = go.Figure([go.Heatmap(z=[[0, 1], [2, 3]]), go.Bar(x=["a", "b"], y=[1, 2])])
+    with ReportBrowser() as browser:
+        token = browser.defer(bad, "a figure that cannot be drawn")
+        with pytest.raises(ReportError) as err:
+            browser.resolve(token)
+    text = str(err.value)
+    assert text.startswith("a figure could not be drawn") and "\n" not in text
+    assert text.endswith("(figure: a figure that cannot be drawn)")
+
+
+def offline_page(browser, problems: list[str]):
+    """A new page whose console errors and warnings, script errors and requests off this machine are
+    written to ``problems`` (such requests are refused)."""
+    page = browser.new_page()
     page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}") if m.type in ("error", "warning")
             else None)
     page.on("pageerror", lambda exc: problems.append(f"page error: {exc}"))
@@ -222,6 +235,29 @@ def test_html_opens_offline_without_errors_or_requests(corridor_html, offline_br
             route.abort()
 
     page.route("**/*", gate)
+    return page
+
+
+@needs_chromium
+def test_figure_page_draws_offline_without_errors_or_requests(tmp_path, offline_browser):
+    # the page the report's browser draws figures in: plotly.js from the installed package, nothing else
+    html = tmp_path / "figures.html"
+    html.write_text(render.RENDER_PAGE.format(plotly=render.plotly_js_path().as_uri()), encoding="utf-8")
+    problems: list[str] = []
+    page = offline_page(offline_browser, problems)
+    page.goto(html.as_uri())
+    fig = go.Figure([go.Heatmap(z=[[0, 1], [2, 3]]), go.Bar(x=[0, 1], y=[1, 2], opacity=0.5),
+                     go.Scatter(x=[0, 1], y=[1, 0], line={"dash": "dash"})])
+    svg = page.evaluate("(f) => renderFigure(f, 500, 300)", json.loads(fig.to_json()))
+    page.close()
+    assert svg.startswith("<svg") and 'width="500"' in svg and 'height="300"' in svg
+    assert problems == []
+
+
+@needs_chromium
+def test_html_opens_offline_without_errors_or_requests(corridor_html, offline_browser):
+    problems: list[str] = []
+    page = offline_page(offline_browser, problems)
     page.goto(corridor_html.as_uri())
     page.wait_for_load_state("load")
     # monthly, calendar, worst week, store across the year, weather risk (both sources pass: no sizing map)

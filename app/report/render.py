@@ -30,7 +30,7 @@ CHROMIUM_CANDIDATES = ("/usr/bin/chromium", "chromium", "chromium-browser")
 PDF_TIMEOUT_S = 180.0
 START_TIMEOUT_S = 60.0
 FIGURE_TIMEOUT_S = 60.0
-# Besides choreographer's own flags: no calls home, no QUIC probes (this machine has no network).
+# Besides choreographer's own flags: no background calls home and no QUIC probes (a report needs no network).
 EXTRA_FLAGS = ("--disable-background-networking", "--disable-quic")
 STREAM_PIECE_BYTES = 4 << 20  # how much of the printed PDF one DevTools message carries
 A4_IN = (210 / 25.4, 297 / 25.4)  # paper when the page's CSS names none (ISO 216 A4, in inches)
@@ -265,11 +265,14 @@ class ReportBrowser:
             out = {}
             for token, label, height, fig_json in jobs:
                 expr = f"renderFigure({fig_json}, {self.width_px}, {height})"
-                result = await self._command(tab, "Runtime.evaluate",
-                                             {"expression": expr, "awaitPromise": True, "returnByValue": True})
+                try:
+                    result = await self._command(tab, "Runtime.evaluate",
+                                                 {"expression": expr, "awaitPromise": True, "returnByValue": True})
+                except ReportError as exc:
+                    raise ReportError(f"{exc} (figure: {label})") from exc
                 svg = result.get("result", {}).get("value")
                 if not isinstance(svg, str) or "<svg" not in svg:
-                    raise ReportError(f"a figure could not be drawn: {label}")
+                    raise ReportError(f"a figure could not be drawn: plotly.js returned no SVG (figure: {label})")
                 out[token] = inline_svg(svg, "f" + re.sub(r"\D", "", token) + "-", label)
             return out
         finally:
