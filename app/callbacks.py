@@ -406,17 +406,16 @@ def portfolio(tab: str, spots: dict[str, Any], files: dict[str, str] | None) -> 
     return rows
 
 
-def open_from_portfolio(clicked: dict[str, Any] | None, rows: list[dict[str, Any]] | None) -> str:
-    """Clicking a spot's row in the portfolio opens it.
+def open_from_portfolio(selected: list[dict[str, Any]] | None) -> tuple[str, list[Any]]:
+    """Choosing a spot's row in the portfolio (a click, or Space on the focused row) opens it.
 
-    ``clicked`` is the grid's ``cellClicked``; the grid names each row by its spot's key (``getRowId``), so
-    the spot opened is the clicked row's own whatever the order the rows are sorted in on screen.
+    ``selected`` is the grid's ``selectedRows``: the chosen row's own data, whatever the order the rows are
+    sorted in on screen. The selection is cleared again, so choosing the same row later opens it again.
     """
-    row_id = (clicked or {}).get("rowId")
-    row = next((r for r in rows or [] if row_id is not None and r.get("key") == row_id), None)
-    if row is None:
+    key = (selected or [{}])[0].get("key")
+    if not key:
         raise PreventUpdate
-    return str(row["key"])
+    return str(key), []
 
 
 # --------------------------------------------------------------------------------------------------
@@ -511,8 +510,8 @@ def register(app: dash.Dash) -> None:
     )(portfolio)
 
     app.callback(
-        Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
-        Input(ids.PORTFOLIO_TABLE, "cellClicked"), State(ids.PORTFOLIO_TABLE, "rowData"),
+        Output(ids.SPOT_PICKER, "value", allow_duplicate=True), Output(ids.PORTFOLIO_TABLE, "selectedRows"),
+        Input(ids.PORTFOLIO_TABLE, "selectedRows"),
         prevent_initial_call=True,
     )(open_from_portfolio)
 

@@ -14,7 +14,7 @@ from . import ids
 from .editor import render_editor
 from .figures import empty_figure
 from .layout_study import report_buttons, report_message, risk_tab, sizing_tab
-from .tables import NOT_ASSESSED, PORTFOLIO_COLUMNS, VERDICT_CLASS, VERDICT_MEANING
+from .tables import NOT_ASSESSED, PORTFOLIO_COLUMNS, RANKED, VERDICT_CLASS, VERDICT_MEANING
 
 FONT_STACK = ('system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "Noto Sans", "Liberation Sans", '
               'Arial, sans-serif')
@@ -133,7 +133,8 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
             dcc.Tab(label="Portfolio", value=ids.TAB_PORTFOLIO, className="sh-tab", selected_className="sh-tab-on",
                     children=[
                 html.P("Every loaded spot with its best source (fewest deficit days, then earliest first wake, "
-                       "then most energy). Click a column title to sort; click a spot to open it.",
+                       "then most energy). Click a column title to sort; click a spot, or press Space on it, "
+                       "to open it.",
                        className="sh-note"),
                 html.Ul([html.Li(e) for e in load_errors], id=ids.LOAD_ERRORS, className="sh-msg-list"),
                 dcc.Loading(type="circle", color="#0072B2", delay_show=250, children=_portfolio_table()),
@@ -162,7 +163,8 @@ IS_NOT_ASSESSED = f"params.data.verdict != null && params.data.verdict.indexOf({
 GOOD, BAD = "#00664a", "#a63f00"
 VERDICT_STYLE = {
     "styleConditions": [
-        *[{"condition": f"params.value === {json.dumps(words)}", "style": {"color": colour, "fontWeight": "650"}}
+        *[{"condition": f"params.data.verdict === {json.dumps(words)}",
+           "style": {"color": colour, "fontWeight": "650"}}
           for words, colour in ((VERDICTS[0][1], GOOD), (INSUFFICIENT, BAD), (NEVER_STARTS, BAD))],
         {"condition": IS_NOT_ASSESSED, "style": {"color": BAD, "fontWeight": "400"}},
     ],
@@ -202,6 +204,9 @@ def portfolio_column_defs() -> list[dict[str, Any]]:
             d.update(cellDataType="text", wrapText=True, autoHeight=True)
         if col["id"] == "spot":  # the site file under the name (assets/dashAgGridComponentFunctions.js)
             d.update(cellRenderer="SpotWithFile", tooltipField="file")
+        if col["id"] in RANKED:  # holds the verdict's rank (sorts best first), shows its words
+            d.update(colId=col["id"], field=f"{col['id']}_rank", cellDataType="number",
+                     valueFormatter={"function": f"params.data.{col['id']}"})
         if col["id"] == "verdict":
             d.update(cellStyle=VERDICT_STYLE, colSpan={"function": f"{IS_NOT_ASSESSED} ? {error_span} : 1"})
         out.append(d)
@@ -216,6 +221,7 @@ def _portfolio_table() -> dag.AgGrid:
                        "wrapHeaderText": True, "autoHeaderHeight": True, "suppressMovable": True},
         getRowId="params.data.key",
         dashGridOptions={"domLayout": "autoHeight", "theme": _theme(), "animateRows": False,
+                         "rowSelection": {"mode": "singleRow", "checkboxes": False, "enableClickSelection": True},
                          "localeText": {"noRowsToShow": "No spots to show."}},
         style={"height": None, "width": "100%"},
     )

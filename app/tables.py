@@ -90,6 +90,15 @@ def best_source(a: Assessment) -> CaseResult:
 
 
 NOT_ASSESSED = "could not assess"  # how a portfolio row whose spot cannot be simulated begins its verdict
+# Verdicts best first: the portfolio sorts its verdict columns by this rank, not alphabetically.
+VERDICT_ORDER = [*(words for _, words in VERDICTS), INSUFFICIENT, NEVER_STARTS]
+RANKED = ("verdict", "together")  # portfolio columns shown as words and sorted by "<column>_rank"
+
+
+def verdict_rank(verdict: str) -> int:
+    """A verdict's place in VERDICT_ORDER; anything else (a spot not assessed) after them all."""
+    return VERDICT_ORDER.index(verdict) if verdict in VERDICT_ORDER else len(VERDICT_ORDER)
+
 PORTFOLIO_COLUMNS = [
     {"id": "spot", "name": "Spot and site file", "type": "text"},
     {"id": "best", "name": "Best source", "type": "text"},
@@ -105,12 +114,13 @@ PORTFOLIO_COLUMNS = [
 def portfolio_row(key: str, file: str, a: Assessment | None, error: str = "", name: str = "") -> dict[str, Any]:
     """One row of the portfolio table (numbers kept as numbers so the table sorts them)."""
     if a is None:
-        return {"key": key, "spot": name or key, "best": "—", "verdict": f"{NOT_ASSESSED}: {error}",
-                "deficit_days": None, "first_wake_h": None, "energy_wh": None, "demand_uw": None,
-                "together": "—", "sources": None, "file": file}
+        row = {"key": key, "spot": name or key, "best": "—", "verdict": f"{NOT_ASSESSED}: {error}",
+               "deficit_days": None, "first_wake_h": None, "energy_wh": None, "demand_uw": None,
+               "together": "—", "sources": None, "file": file}
+        return row | {f"{c}_rank": verdict_rank(row[c]) for c in RANKED}
     best = best_source(a)
     fw = best.first_wake_hours
-    return {
+    row = {
         "key": key,
         "spot": a.spec.spot.name,
         "best": best.id,
@@ -123,3 +133,4 @@ def portfolio_row(key: str, file: str, a: Assessment | None, error: str = "", na
         "sources": len(a.sources),
         "file": file,
     }
+    return row | {f"{c}_rank": verdict_rank(row[c]) for c in RANKED}

@@ -28,6 +28,7 @@ from app import callbacks as cb
 from app import figures, ids
 from app.engine import ASSESSMENTS, assessment_for, load_records, site_dict
 from app.factory import create_app
+from app.tables import VERDICT_ORDER, verdict_rank
 from siteharvest.assess import assess
 from siteharvest.site import load_site, parse_site
 from siteharvest.sources.solar import TECHNOLOGY_PRESETS
@@ -309,24 +310,23 @@ def test_portfolio_lists_every_spot_with_its_best_source(four, site_file):
     assert rows[1]["best"] == "panel"
 
 
-def test_clicking_a_portfolio_row_opens_that_rows_spot_whatever_the_sort(four, site_file):
+def test_choosing_a_portfolio_row_opens_that_rows_spot_whatever_the_sort(four, site_file):
     spots, key = four
     base_spots, _ = load_records([site_file()])
     spots = {**spots, **{f"b-{k}": v for k, v in base_spots.items()}}
     rows = cb.portfolio(ids.TAB_PORTFOLIO, spots, {})
     assert all(isinstance(r[c], int | float) for r in rows for c in ("deficit_days", "energy_wh"))  # sortable
+    for r in rows:  # verdicts sort best first: "self-sufficient" 0 ... "never starts" 4, not assessed 5
+        assert r["verdict_rank"] == verdict_rank(r["verdict"]) and r["together_rank"] == verdict_rank(r["together"])
     other = rows[1]["key"]
-    # the user sorted the grid so that the second spot now sits at the top: the click names the row's own key
-    # (the grid's row id is the row's "key"), and its place on screen does not matter
-    clicked = {"rowIndex": 0, "rowId": other, "colId": "energy_wh", "value": rows[1]["energy_wh"], "timestamp": 1}
-    assert cb.open_from_portfolio(clicked, rows) == other
-    assert cb.open_from_portfolio({**clicked, "rowId": key}, rows) == key
-    assert cb.open_from_portfolio({**clicked, "rowId": key}, list(reversed(rows))) == key
-    for nothing in (None, {}, {"rowIndex": 0}, {**clicked, "rowId": "a spot no longer loaded"}):
+    # the user sorted the grid so that the second spot now sits at the top and chose it (click or Space): the
+    # grid hands over the chosen row's own data, so its place on screen does not matter; the selection is
+    # cleared so that choosing the same row again later opens it again
+    assert cb.open_from_portfolio([rows[1]]) == (other, [])
+    assert cb.open_from_portfolio([rows[0]]) == (key, [])
+    for nothing in (None, [], [{}], [{"key": ""}]):
         with pytest.raises(PreventUpdate):
-            cb.open_from_portfolio(nothing, rows)
-    with pytest.raises(PreventUpdate):
-        cb.open_from_portfolio(clicked, None)
+            cb.open_from_portfolio(nothing)
 
 
 def test_portfolio_grid_keeps_the_columns_and_sorts_numbers_as_numbers():
@@ -339,12 +339,19 @@ def test_portfolio_grid_keeps_the_columns_and_sorts_numbers_as_numbers():
     assert type(grid).__name__ == "AgGrid" and grid.id == ids.PORTFOLIO_TABLE
     assert grid.getRowId == "params.data.key"  # a click names the row's spot key, whatever the sort order
     defs = grid.columnDefs
-    assert [(d["field"], d["headerName"]) for d in defs] == [(c["id"], c["name"]) for c in PORTFOLIO_COLUMNS]
+    assert [(d.get("colId", d["field"]), d["headerName"]) for d in defs] == [(c["id"], c["name"])
+                                                                          for c in PORTFOLIO_COLUMNS]
+    # the verdict columns hold the verdict's rank, so they sort best first rather than alphabetically
+    for d in defs:
+        if d.get("colId") in ("verdict", "together"):
+            assert d["field"] == f"{d['colId']}_rank" and d["cellDataType"] == "number"
+            assert d["valueFormatter"]["function"] == f"params.data.{d['colId']}"  # the words are shown
     for d, c in zip(defs, PORTFOLIO_COLUMNS, strict=True):
         if c["type"] == "numeric":
             assert d["type"] == "numericColumn" and d["cellDataType"] == "number"  # right-aligned, numeric sort
             assert "ag-right-aligned-cell" in d["cellClass"]
-        assert "'—'" in d["valueFormatter"]["function"]  # missing values read as a dash
+        if "colId" not in d:
+            assert "'—'" in d["valueFormatter"]["function"]  # missing values read as a dash
     spot = next(d for d in defs if d["field"] == "spot")
     assert spot["cellRenderer"] == "SpotWithFile" and spot["tooltipField"] == "file"  # the file under the name
     renderers = (ROOT / "assets" / "dashAgGridComponentFunctions.js").read_text(encoding="utf-8")
@@ -355,10 +362,12 @@ def test_portfolio_grid_keeps_the_columns_and_sorts_numbers_as_numbers():
     # wired: the rows go to the grid's rowData; a cell click (with the rows) opens a spot
     wiring = create_app().callback_map
     assert f"{ids.PORTFOLIO_TABLE}.rowData" in wiring
-    opener = next(v for k, v in wiring.items() if k.startswith(f"{ids.SPOT_PICKER}.value")
-                  and any(i["id"] == ids.PORTFOLIO_TABLE for i in v["inputs"]))
-    assert opener["inputs"] == [{"id": ids.PORTFOLIO_TABLE, "property": "cellClicked"}]
-    assert opener["state"] == [{"id": ids.PORTFOLIO_TABLE, "property": "rowData"}]
+    opener_key, opener = next((k, v) for k, v in wiring.items() if f"{ids.SPOT_PICKER}.value" in k
+                              and any(i["id"] == ids.PORTFOLIO_TABLE for i in v["inputs"]))
+    assert opener["inputs"] == [{"id": ids.PORTFOLIO_TABLE, "property": "selectedRows"}]
+    assert f"{ids.PORTFOLIO_TABLE}.selectedRows" in opener_key  # and clears the selection
+    selection = grid.dashGridOptions["rowSelection"]
+    assert selection["mode"] == "singleRow" and selection["enableClickSelection"]  # a click or Space chooses
 
 
 def test_case_views_default_to_the_worst_week(four):
@@ -472,7 +481,14 @@ def test_editor_rebuild_and_spot_choice(four):
     shown = {json.loads(ids.dom_id(g.id))["key"]: g.open for g in editor}
     assert shown["store"] is True and shown["place"] is False
     assert cb.picker_options(spots) == [{"label": "four-source check spot", "value": key}]
-    rows = [{"key": "a"}, {"key": key}]
-    assert cb.open_from_portfolio({"rowIndex": 1, "rowId": key, "colId": "spot"}, rows) == key
+    assert cb.open_from_portfolio([{"key": key, "spot": "four-source check spot"}]) == (key, [])
     with pytest.raises(PreventUpdate):
-        cb.open_from_portfolio(None, rows)
+        cb.open_from_portfolio(None)
+
+
+def test_verdict_ranks_run_from_best_to_worst():
+    # the verdict words and their thresholds are the project's own (siteharvest.metrics); the order is
+    # best first: no deficit, brief gaps, seasonal gaps, insufficient, never starts; a spot not assessed last
+    assert VERDICT_ORDER == ["self-sufficient", "brief gaps", "seasonal gaps", "insufficient", "never starts"]
+    assert [verdict_rank(v) for v in VERDICT_ORDER] == list(range(5))
+    assert verdict_rank("could not assess: x.toml: file: expected a site file") == 5

@@ -13,6 +13,7 @@ from playwright.sync_api import Page, expect
 
 from app.tables import summary_rows
 from siteharvest.assess import assess
+from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 from siteharvest.site import dump_site, load_site, parse_site
 
 pytestmark = pytest.mark.e2e
@@ -105,6 +106,14 @@ def test_portfolio_lists_every_spot_sorts_and_opens_the_one_clicked(watched_page
     values = [float(t.replace(",", "")) for t in shown]
     assert values == sorted(values)
     grid.screenshot(path=str(artifacts / "portfolio-sorted.png"))
+    # sorted by verdict: best first by severity, not alphabetically; a spot that could not be assessed last
+    page.locator(".ag-header-cell[col-id='verdict'] .ag-header-cell-label").click()
+    expect(grid.locator(".ag-header-cell[col-id='verdict']")).to_have_attribute("aria-sort", "ascending")
+    verdicts = grid_column(page, "verdict")
+    severity = [*(w for _, w in VERDICTS), INSUFFICIENT, NEVER_STARTS]
+    ranks = [severity.index(v) if v in severity else len(severity) for v in verdicts]
+    assert ranks == sorted(ranks) and verdicts[-1].startswith("could not assess")
+    assert len(set(ranks)) >= 3  # the samples hold several verdicts: the order is tested, not assumed
     # clicking a spot's row (after sorting) opens that spot
     target = SOLAR_SPEC.spot.name
     grid.locator(".ag-row .ag-cell[col-id='spot']", has_text=target).click()
@@ -113,6 +122,13 @@ def test_portfolio_lists_every_spot_sorts_and_opens_the_one_clicked(watched_page
     # and clicking the broken one opens it too, saying why it cannot be simulated
     grid.locator(".ag-row .ag-cell[col-id='spot']", has_text="broken-spot.toml").click()
     expect(page.locator(".sh-status")).to_contain_text("cannot be simulated")
+    # from the keyboard: the focus moves to a neighbouring row, Space opens its spot
+    order = [cell.splitlines()[0] for cell in grid_column(page, "spot")]
+    at = order.index(broken_name)
+    step, neighbour = ("ArrowDown", order[at + 1]) if at + 1 < len(order) else ("ArrowUp", order[at - 1])
+    page.keyboard.press(step)
+    page.keyboard.press("Space")
+    expect(page.locator(".sh-status-name")).to_have_text(neighbour)
 
 
 def expected_energy(spec, tilt: float | None = None) -> str:
