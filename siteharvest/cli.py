@@ -150,6 +150,11 @@ def cmd_size(args: argparse.Namespace) -> int:
     return 0
 
 
+def _progress_line(line: str) -> None:
+    """A report's progress at a terminal (a portfolio takes about a second a spot): one line on stderr."""
+    print(f"siteharvest: {line}", file=sys.stderr, flush=True)
+
+
 def cmd_report(args: argparse.Namespace) -> int:
     try:
         from app.report import ReportError, write_report
@@ -166,7 +171,8 @@ def cmd_report(args: argparse.Namespace) -> int:
         raise SiteInputError("at least 2 sizes along each axis", field="--sizing-steps", got=args.sizing_steps)
     try:
         written = write_report(args.site, out, sizing=not args.no_sizing, risk_years=args.risk_years,
-                               sizing_steps=args.sizing_steps, hourly=not args.no_hourly)
+                               sizing_steps=args.sizing_steps, hourly=not args.no_hourly,
+                               progress=_progress_line if sys.stderr.isatty() else None)
     except ReportError as exc:
         print(f"siteharvest: {exc}", file=sys.stderr)
         return 1

@@ -14,6 +14,7 @@ import json
 import re
 import shutil
 import subprocess
+import sys
 from pathlib import Path
 
 import numpy as np
@@ -306,7 +307,8 @@ def test_html_embeds_the_site_file_that_loads_back_to_the_same_spot(corridor_htm
 
 
 @needs_chromium
-def test_portfolio_ranks_spots_and_lists_a_broken_one(tmp_path, capsys):
+def test_portfolio_ranks_spots_and_lists_a_broken_one(tmp_path, capsys, monkeypatch):
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)  # as at a terminal: progress lines on stderr
     folder = tmp_path / "plant"
     shutil.copytree(SAMPLES, folder)
     (folder / "broken.toml").write_text(BROKEN, encoding="utf-8")
@@ -314,8 +316,12 @@ def test_portfolio_ranks_spots_and_lists_a_broken_one(tmp_path, capsys):
         load_site(folder / "broken.toml")
     out = tmp_path / "portfolio.pdf"
     code = main(["report", str(folder), "-o", str(out), "--risk-years", "6", "--sizing-steps", "5"])
-    written = capsys.readouterr().out.split()
+    captured = capsys.readouterr()
+    written = captured.out.split()
     assert code == 0 and written[0] == str(out)
+    progress = captured.err.splitlines()
+    assert len(progress) == 6 and progress[0].startswith("siteharvest: 1/5 ") and progress[-1].endswith("PDF")
+    assert "siteharvest: 1/5 broken.toml: could not be read" in progress  # sorted by name: broken.toml first
     samples = sorted(p.stem for p in SAMPLES.glob("*.toml"))
     assert sorted(Path(p).name for p in written[1:]) == [f"portfolio.{s}.hourly.csv" for s in samples]
     text = pdf_text(out)

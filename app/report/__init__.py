@@ -10,7 +10,7 @@ from __future__ import annotations
 import datetime as dt
 import re
 import time
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Literal
@@ -23,6 +23,7 @@ from .render import ReportBrowser, ReportError, chromium_path
 from .study import SiteInput, SpotStudy, complete_study, expand_inputs, study_spot_or_error
 
 Format = Literal["pdf", "html"]
+Progress = Callable[[str], None]
 
 __all__ = ["Report", "ReportError", "SpotStudy", "build_html", "build_report", "chromium_path", "fmt_energy_wh",
            "fmt_sig", "make_report", "write_report"]
@@ -41,8 +42,10 @@ class Report:
 
 def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format = "pdf", sizing: bool = True,
                 risk_years: int = 200, sizing_steps: int = 24, seed: int = 1,
-                generated: dt.datetime | None = None) -> Report:
+                generated: dt.datetime | None = None, progress: Progress | None = None) -> Report:
     """Study the spots and render the report, keeping the studies (for the hourly CSVs).
+
+    ``progress``, if given, is called with a short line after each spot and before the printing.
 
     Bad input raises :class:`~siteharvest.errors.SiteInputError` for a single spot (and for a portfolio
     whose every site file is bad); otherwise in a portfolio the spot is listed with its error. Rendering
@@ -72,6 +75,8 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
             studies.append(study)
             sections.append(spot_section(study, n, renderer.defer, when, portfolio=portfolio))
             renderer.flush()  # this spot's figures render while the next spot is computed
+            if progress is not None:
+                progress(f"{n}/{len(items)} {study.label}: " + ("studied" if study.ok else "could not be read"))
         if not any(s.ok for s in studies):  # every site file is bad: that is bad input, not a report
             first = studies[0].error or ""
             raise SiteInputError(f"at least one readable site file; all {len(studies)} have errors, the first: {first}",
@@ -81,6 +86,8 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
                                          when=when))
         timings["figures_wait"] = time.perf_counter() - t
         t = time.perf_counter()
+        if progress is not None and fmt == "pdf":
+            progress("printing the PDF")
         content = renderer.pdf(html) if fmt == "pdf" else html.encode("utf-8")
         timings["print"] = time.perf_counter() - t
     timings["total"] = time.perf_counter() - clock
@@ -117,13 +124,14 @@ def hourly_csv_paths(out: Path, studies: Sequence[SpotStudy], portfolio: bool) -
 
 def write_report(paths_or_specs: SiteInput | Sequence[SiteInput], out: str | Path, *, fmt: Format | None = None,
                  sizing: bool = True, risk_years: int = 200, sizing_steps: int = 24, seed: int = 1,
-                 hourly: bool = True, generated: dt.datetime | None = None) -> list[Path]:
+                 hourly: bool = True, generated: dt.datetime | None = None,
+                 progress: Progress | None = None) -> list[Path]:
     """Write the report to ``out`` (format from its suffix unless given) and, with ``hourly``, each spot's
     hourly series as CSV beside it. Returns the paths written, the report first."""
     out = Path(out)
     fmt = fmt or ("html" if out.suffix.lower() in (".html", ".htm") else "pdf")
     report = make_report(paths_or_specs, fmt=fmt, sizing=sizing, risk_years=risk_years,
-                         sizing_steps=sizing_steps, seed=seed, generated=generated)
+                         sizing_steps=sizing_steps, seed=seed, generated=generated, progress=progress)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_bytes(report.content)
     written = [out]
