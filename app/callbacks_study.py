@@ -428,6 +428,43 @@ def download_report(pdf_clicks: int | None, html_clicks: int | None, key: str, s
     return dcc.send_bytes(content, _report_filename(record, key, fmt), type=kind), ""
 
 
+def download_portfolio_report(pdf_clicks: int | None, html_clicks: int | None, spots: dict[str, Any],
+                              files: dict[str, str] | None, *, trigger: Trigger | None = None) -> tuple[Any, str]:
+    """The report of every loaded spot (their last good values and uploads), ranked, as PDF or HTML bytes.
+
+    A spot that cannot be studied is listed on the cover with its error; a spot whose files cannot be
+    laid out is left out and named in the message line. Returns (dcc.Download data, message line).
+    """
+    which = trigger[0] if trigger is not None else _triggered_id()
+    if which not in (ids.PORTFOLIO_PDF_BUTTON, ids.PORTFOLIO_HTML_BUTTON) or not spots:
+        raise PreventUpdate
+    clicks = pdf_clicks if which == ids.PORTFOLIO_PDF_BUTTON else html_clicks
+    if not clicks:
+        raise PreventUpdate
+    fmt = "pdf" if which == ids.PORTFOLIO_PDF_BUTTON else "html"
+    from . import report
+
+    left_out: list[str] = []
+    try:
+        with contextlib.ExitStack() as stack:
+            specs = []
+            for key, record in spots.items():
+                try:
+                    specs.append(stack.enter_context(report_spec(record, files)))
+                except (SiteInputError, ValueError, OSError) as exc:
+                    left_out.append(f"{record.get('file') or key}: {_without_report_folder(_problem(exc))}")
+            if not specs:
+                raise SiteInputError("at least one spot that can be laid out for the report", field="portfolio")
+            content = report.build_report(specs, fmt=fmt, sizing_steps=REPORT_SIZING_STEPS,
+                                          risk_years=REPORT_RISK_YEARS)
+    except (report.ReportError, SiteInputError, ValueError, OSError) as exc:
+        log.warning("portfolio report failed: %s", exc)
+        return no_update, f"The report could not be made: {_without_report_folder(_problem(exc))}"
+    kind = "application/pdf" if fmt == "pdf" else "text/html"
+    note = ("Left out (their files could not be laid out): " + "; ".join(left_out)) if left_out else ""
+    return dcc.send_bytes(content, f"portfolio-report.{fmt}", type=kind), note
+
+
 def _triggered_id() -> Any:
     try:
         return dash.ctx.triggered_id
@@ -469,3 +506,14 @@ def register(app: dash.Dash) -> None:
                  (Output(ids.REPORT_BUSY, "children"), "Preparing the report…", "")],
         prevent_initial_call=True,
     )(download_report)
+
+    app.callback(
+        Output(ids.PORTFOLIO_DOWNLOAD, "data"), Output(ids.PORTFOLIO_MSG, "children"),
+        Input(ids.PORTFOLIO_PDF_BUTTON, "n_clicks"), Input(ids.PORTFOLIO_HTML_BUTTON, "n_clicks"),
+        State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        running=[(Output(ids.PORTFOLIO_PDF_BUTTON, "disabled"), True, False),
+                 (Output(ids.PORTFOLIO_HTML_BUTTON, "disabled"), True, False),
+                 (Output(ids.PORTFOLIO_BUSY, "children"), "Preparing the portfolio report (about a second a spot)…",
+                  "")],
+        prevent_initial_call=True,
+    )(download_portfolio_report)

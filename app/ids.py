@@ -22,6 +22,11 @@ REPORT_HTML_BUTTON = "sh-report-html-button"
 REPORT_DOWNLOAD = "sh-report-download"
 REPORT_MSG = "sh-report-msg"  # one line when the report could not be made
 REPORT_BUSY = "sh-report-busy"  # "preparing the report" while it runs
+PORTFOLIO_PDF_BUTTON = "sh-portfolio-pdf-button"  # the report of every loaded spot, ranked
+PORTFOLIO_HTML_BUTTON = "sh-portfolio-html-button"
+PORTFOLIO_DOWNLOAD = "sh-portfolio-download"
+PORTFOLIO_MSG = "sh-portfolio-msg"
+PORTFOLIO_BUSY = "sh-portfolio-busy"
 
 # editor
 EDITOR = "sh-editor"

@@ -13,7 +13,7 @@ from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 from . import ids
 from .editor import render_editor
 from .figures import empty_figure
-from .layout_study import report_buttons, report_message, risk_tab, sizing_tab
+from .layout_study import portfolio_report_buttons, report_buttons, report_message, risk_tab, sizing_tab
 from .tables import NOT_ASSESSED, PORTFOLIO_COLUMNS, RANKED, VERDICT_CLASS, VERDICT_MEANING
 
 FONT_STACK = ('system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "Noto Sans", "Liberation Sans", '
@@ -137,6 +137,7 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
                        "to open it.",
                        className="sh-note"),
                 html.Ul([html.Li(e) for e in load_errors], id=ids.LOAD_ERRORS, className="sh-msg-list"),
+                portfolio_report_buttons(),
                 dcc.Loading(type="circle", color="#0072B2", delay_show=250, children=_portfolio_table()),
             ]),
         ]),

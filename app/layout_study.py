@@ -54,6 +54,25 @@ def report_buttons() -> list[Any]:
     ]
 
 
+def portfolio_report_buttons() -> html.Div:
+    """The portfolio's report buttons, on the Portfolio tab: every loaded spot, ranked, in one report."""
+    return html.Div(className="sh-portfolio-report", children=[
+        html.Div(className="sh-button-group", role="group", **{"aria-label": "Download the portfolio report"},
+                 children=[
+            html.Button("Download the portfolio report (PDF)", id=ids.PORTFOLIO_PDF_BUTTON, n_clicks=0,
+                        className="sh-button", type="button",
+                        title="Every loaded spot as it stands, ranked, each with its sizing study and weather "
+                              "risk (about a second a spot)"),
+            html.Button("HTML", id=ids.PORTFOLIO_HTML_BUTTON, n_clicks=0, className="sh-button", type="button",
+                        title="The same report as one self-contained web page",
+                        **{"aria-label": "Download the portfolio report (HTML)"}),
+        ]),
+        html.Span(id=ids.PORTFOLIO_BUSY, className="sh-busy sh-busy-dark", role="status"),
+        dcc.Download(id=ids.PORTFOLIO_DOWNLOAD),
+        html.Div(id=ids.PORTFOLIO_MSG, className="sh-msg", role="alert"),
+    ])
+
+
 def report_message() -> html.Div:
     return html.Div(id=ids.REPORT_MSG, className="sh-msg sh-top-msg", role="alert")
 

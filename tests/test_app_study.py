@@ -11,6 +11,7 @@ import base64
 import contextvars
 import copy
 import hashlib
+import io
 import json
 import shutil
 from pathlib import Path
@@ -24,6 +25,7 @@ from dash import no_update
 from dash._callback_context import context_value
 from dash._utils import AttributeDict
 from dash.exceptions import PreventUpdate
+from pypdf import PdfReader
 from shared import BASE_SITE
 
 from app import callbacks as cb
@@ -324,6 +326,45 @@ def test_report_needs_a_click_and_reads_the_button_from_dash(study, monkeypatch,
     assert download is no_update and "Chromium" in message
 
 
+@needs_chromium
+def test_portfolio_report_ranks_every_loaded_spot_and_lists_one_that_cannot_be_studied(monkeypatch):
+    # the checks are the report's own contract (a cover ranking the spots, a spot that cannot be studied
+    # listed with its error); small studies keep the test quick
+    monkeypatch.setattr(cs, "REPORT_SIZING_STEPS", 5)
+    monkeypatch.setattr(cs, "REPORT_RISK_YEARS", 6)
+    spots, _ = load_records([ROOT / "sample_sites"])
+    key = next(iter(spots))
+    broken = copy.deepcopy(spots[key])
+    broken["site"]["spot"]["name"] = "Spot with a missing weather file"
+    broken["site"]["weather"] = {"file": "weather/missing.epw", "file_format": "auto"}
+    spots = {**spots, "broken": {**broken, "file": "broken-spot.toml"}}
+    download, message = cs.download_portfolio_report(1, 0, spots, {}, trigger=(ids.PORTFOLIO_PDF_BUTTON, 1))
+    assert message == ""
+    assert download["filename"] == "portfolio-report.pdf" and download["type"] == "application/pdf"
+    pdf = decoded(download)
+    cover = " ".join(PdfReader(io.BytesIO(pdf)).pages[0].extract_text().split())
+    assert "Spots ranked by their best source" in cover and "5 (4 studied, 1 with errors)" in cover
+    for record in spots.values():
+        if record is not spots["broken"]:
+            assert record["site"]["spot"]["name"][:20] in cover
+    assert "broken-spot.toml" in cover and "weather/missing.epw" in cover
+    assert "siteharvest-report-" not in cover  # no server folders
+
+
+def test_portfolio_report_needs_a_click_and_spots_and_says_why_it_failed(study, monkeypatch, tmp_path):
+    spots, _, _ = study
+    with pytest.raises(PreventUpdate):
+        cs.download_portfolio_report(0, 0, spots, {}, trigger=(ids.PORTFOLIO_PDF_BUTTON, 0))
+    with pytest.raises(PreventUpdate):
+        cs.download_portfolio_report(1, 0, {}, {}, trigger=(ids.PORTFOLIO_PDF_BUTTON, 1))
+    with pytest.raises(PreventUpdate):
+        cs.download_portfolio_report(1, 0, spots, {})  # outside a Dash request: no trigger
+    monkeypatch.setenv("SITEHARVEST_CHROMIUM", str(tmp_path / "no-such-browser"))
+    download, message = cs.download_portfolio_report(0, 1, spots, {}, trigger=(ids.PORTFOLIO_HTML_BUTTON, 1))
+    assert download is no_update
+    assert message.startswith("The report could not be made:") and "Chromium" in message and "\n" not in message
+
+
 # --------------------------------------------------------------------------------------------------
 # wiring
 
@@ -339,6 +380,10 @@ def test_wiring_of_the_study_views(site_file):
     outputs = {d["output"]: d for d in deps}
     report = next(d for out, d in outputs.items() if ids.REPORT_DOWNLOAD in out)
     assert report.get("running") and report["prevent_initial_call"]  # buttons off and a line while it runs
+    portfolio = next(d for out, d in outputs.items() if ids.PORTFOLIO_DOWNLOAD in out)
+    assert portfolio.get("running") and portfolio["prevent_initial_call"]
+    assert {"id": ids.PORTFOLIO_PDF_BUTTON, "property": "n_clicks"} in portfolio["inputs"]
+    assert "Download the portfolio report (PDF)" in layout
     sizing = next(d for out, d in outputs.items() if ids.FIG_SIZING in out)
     assert {"id": ids.TABS, "property": "value"} in sizing["inputs"]  # computes only when its tab is open
     risk = next(d for out, d in outputs.items() if ids.FIG_RISK + "." in out)

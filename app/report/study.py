@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import hashlib
 import math
+import os
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -191,8 +192,13 @@ def study_spot_or_error(item: SiteInput, *, portfolio: bool, sizing: bool = True
     except SiteInputError as exc:
         if not portfolio:
             raise
-        name = Path(item).name if isinstance(item, str | Path) else item.spot.name
-        return SpotStudy(label=name, file=str(item) if isinstance(item, str | Path) else None, error=str(exc))
+        if isinstance(item, str | Path):
+            return SpotStudy(label=Path(item).name, file=str(item), error=str(exc))
+        # a spec: named by its site file where it has one; files in the error as the site file names them
+        error = str(exc)
+        for folder in {str(item.base_dir), str(Path(item.base_dir).resolve())}:
+            error = error.replace(folder.rstrip("/\\") + os.sep, "")
+        return SpotStudy(label=Path(item.file).name if item.file else item.spot.name, file=item.file, error=error)
 
 
 def study_spots(items: Sequence[SiteInput], *, portfolio: bool, sizing: bool = True, risk_years: int = 200,

@@ -80,3 +80,25 @@ def test_report_pdf_download(watched_page: Page, tmp_path: Path, artifacts: Path
     expect(button).to_be_enabled()
     expect(page.locator("#sh-report-busy")).to_be_empty()
     expect(page.locator("#sh-report-msg")).to_be_empty()
+
+
+def test_portfolio_report_html_download(watched_page: Page, tmp_path: Path, artifacts: Path):
+    page = watched_page
+    page.locator(".sh-tab", has_text="Portfolio").click()
+    button = page.get_by_role("button", name="Download the portfolio report (HTML)")
+    with page.expect_download(timeout=120_000) as info:
+        button.click()
+        expect(page.locator("#sh-portfolio-busy")).to_contain_text("Preparing the portfolio report")
+        expect(button).to_be_disabled()
+        page.locator(".sh-portfolio-report").screenshot(path=str(artifacts / "portfolio-report-busy.png"))
+    download = info.value
+    assert download.suggested_filename == "portfolio-report.html"
+    saved = tmp_path / download.suggested_filename
+    download.save_as(saved)
+    html = saved.read_text(encoding="utf-8")
+    assert "Spots ranked by their best source" in html
+    for sample in SAMPLES:  # every loaded spot is in it, each under its own site file's name
+        assert sample.name in html
+    expect(button).to_be_enabled()
+    expect(page.locator("#sh-portfolio-busy")).to_be_empty()
+    expect(page.locator("#sh-portfolio-msg")).to_be_empty()
