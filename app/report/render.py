@@ -23,6 +23,7 @@ from concurrent.futures import Future
 from pathlib import Path
 from types import TracebackType
 from typing import Any, TypeVar
+from urllib.parse import unquote
 
 import plotly.graph_objects as go
 
@@ -32,6 +33,7 @@ START_TIMEOUT_S = 60.0
 FIGURE_TIMEOUT_S = 60.0
 # Besides choreographer's own flags: no background calls home and no QUIC probes (a report needs no network).
 EXTRA_FLAGS = ("--disable-background-networking", "--disable-quic")
+NAVIGATION_POLL_S = 0.02  # how often a loading tab is asked which document it shows
 STREAM_PIECE_BYTES = 4 << 20  # how much of the printed PDF one DevTools message carries
 A4_IN = (210 / 25.4, 297 / 25.4)  # paper when the page's CSS names none (ISO 216 A4, in inches)
 T = TypeVar("T")
@@ -231,10 +233,27 @@ class ReportBrowser:
         return result
 
     async def _navigate(self, tab: Any, uri: str, timeout_s: float) -> None:
-        await self._command(tab, "Page.enable")
-        loaded = tab.subscribe_once("Page.loadEventFired")
+        """Load ``uri`` in the tab and return once that document (not the one before) has loaded.
+
+        A load event alone is not proof: the tab's first blank page can report its load late, after the
+        navigation started. So the tab is asked which document it shows until it is ``uri``, complete.
+        """
         await self._command(tab, "Page.navigate", {"url": uri})
-        await asyncio.wait_for(loaded, timeout_s)
+        loop = asyncio.get_running_loop()
+        deadline = loop.time() + timeout_s
+        probe = {"expression": "decodeURI(location.href) + ' ' + document.readyState", "returnByValue": True}
+        want = f"{unquote(uri)} complete"
+        while True:
+            try:
+                shown = (await self._command(tab, "Runtime.evaluate", probe)).get("result", {}).get("value")
+            except ReportError:  # between two documents there is briefly no page to ask
+                shown = None
+            if shown == want:
+                return
+            if loop.time() > deadline:
+                raise ReportError(f"Chromium did not load {Path(uri).name} within {timeout_s:.0f} s (it shows "
+                                  f"{shown or 'nothing'})")
+            await asyncio.sleep(NAVIGATION_POLL_S)
 
     async def _tab(self) -> Any:
         assert self._opened is not None
