@@ -28,6 +28,7 @@ from typing import Any
 import numpy as np
 from pydantic import Field, field_serializer, field_validator, model_validator
 
+from .errors import choose
 from .fields import Section, quantity
 
 # Plain names of our own. Efficiency points are (input power [uW], efficiency [-]).
@@ -112,9 +113,7 @@ class ConditioningSpec(Section):
             data = {"preset": data}
         if not isinstance(data, dict):
             return data
-        name = data.get("preset", "solar-cell-boost")
-        if name not in CONDITIONING_PRESETS:
-            raise ValueError(f"preset must be one of {', '.join(CONDITIONING_PRESETS)}")
+        name = choose(data, "preset", CONDITIONING_PRESETS, "solar-cell-boost")
         merged = {"preset": name, "efficiency_vs_input_v": None, **CONDITIONING_PRESETS[name]}
         merged.update(data)
         if merged.get("efficiency_vs_input_v") == []:   # written as [] when cleared (TOML has no null)

@@ -8,6 +8,7 @@ field (and the line where it can be found) and what was expected.
 from __future__ import annotations
 
 import json
+import math
 import re
 import tomllib
 from pathlib import Path
@@ -17,7 +18,7 @@ import tomli_w
 from pydantic import Field, PrivateAttr, ValidationError, model_validator
 
 from .demand import NodeSpec
-from .errors import SiteInputError
+from .errors import ChoiceError, SiteInputError, one_line
 from .fields import Section, quantity
 from .schedule import parse_date
 from .sources import SOURCE_KINDS, AnySource
@@ -90,6 +91,30 @@ class SiteSpec(Section):
 
 
 _TOML_LINE = re.compile(r"line (\d+)")
+#: Largest site file read [characters]: real ones are a few kB.
+MAX_SITE_CHARS = 1_000_000
+#: Deepest nesting of arrays and tables accepted (a real site file nests about 6 deep).
+MAX_SITE_DEPTH = 32
+_LONG_NUMBER = re.compile(r"[0-9_]{1000,}")
+
+
+def _depth(data: Any) -> int:
+    """How deep lists and dicts nest in ``data`` (iterative: hostile input cannot exhaust the stack);
+    stops counting past :data:`MAX_SITE_DEPTH`."""
+    deepest, stack = 0, [(data, 1)]
+    while stack:
+        node, level = stack.pop()
+        if isinstance(node, dict | list | tuple):
+            deepest = max(deepest, level)
+            if level > MAX_SITE_DEPTH:
+                return level
+            stack.extend((child, level + 1) for child in (node.values() if isinstance(node, dict) else node))
+    return deepest
+
+
+def _long_number_line(text: str) -> int | None:
+    match = _LONG_NUMBER.search(text)
+    return text.count("\n", 0, match.start()) + 1 if match else None
 
 
 _UNION_TAGS = frozenset(SOURCE_KINDS) | {"supercapacitor", "rechargeable"}
@@ -119,7 +144,31 @@ def _field_path(loc: tuple[Any, ...], data: Any) -> str:
     return ".".join(parts) or "(top level)"
 
 
+# pydantic error types whose stock words speak Python ('dictionary', 'instance of ...'): TOML words instead.
+_PLAIN_EXPECTED = {
+    "model_type": "a table", "model_attributes_type": "a table", "dict_type": "a table",
+    "list_type": "a list", "tuple_type": "a list", "set_type": "a list",
+    "float_type": "a number", "float_parsing": "a number",
+    "int_type": "a whole number", "int_parsing": "a whole number", "int_from_float": "a whole number",
+    "int_parsing_size": "a whole number of sensible size",
+    "string_type": "text in quotes", "bool_type": "true or false", "bool_parsing": "true or false",
+    "finite_number": "a finite number", "recursion_loop": "no nesting this deep",
+    "union_tag_not_found": "a table with a 'kind' field",
+}
+
+
 def _expected(err: dict[str, Any]) -> str:
+    kind = err.get("type")
+    ctx = err.get("ctx") or {}
+    got = err.get("input")
+    if isinstance(got, float) and not math.isfinite(got) and kind in (
+            "less_than_equal", "less_than", "greater_than_equal", "greater_than", "finite_number"):
+        return "a finite number"
+    if kind in _PLAIN_EXPECTED:
+        return _PLAIN_EXPECTED[kind]
+    limit = ctx.get("min_length") if kind == "too_short" else ctx.get("max_length") if kind == "too_long" else None
+    if limit is not None:
+        return f"at {'least' if kind == 'too_short' else 'most'} {limit} item{'s' if limit != 1 else ''}"
     msg = str(err.get("msg", "a valid value"))
     for prefix in ("Value error, ", "Input should be ", "Assertion failed, "):
         if msg.startswith(prefix):
@@ -147,6 +196,10 @@ def site_error(exc: ValidationError, data: Any, file: str, text: str | None = No
     """One-line error for the first problem pydantic found."""
     err = exc.errors(include_url=False)[0]
     field = _field_path(tuple(err.get("loc", ())), data)
+    cause = err.get("ctx", {}).get("error")
+    if isinstance(cause, ChoiceError):   # a preset-type field: name the field itself and what it held
+        field = f"{field}.{cause.key}" if field != "(top level)" else cause.key
+        return SiteInputError(cause.expected, file=file, field=field, got=cause.got, line=_line_of(text, field))
     got = err.get("input")
     if isinstance(got, dict | list) or err.get("type") == "missing":
         got = None
@@ -156,10 +209,22 @@ def site_error(exc: ValidationError, data: Any, file: str, text: str | None = No
 def parse_site(data: dict[str, Any], *, file: str = "<site>", base_dir: Path | None = None,
                text: str | None = None) -> SiteSpec:
     """Validate a site dictionary (as read from TOML) into a :class:`SiteSpec`."""
+    if not isinstance(data, dict):
+        raise SiteInputError("a table of site fields", file=file, got=f"a {type(data).__name__}")
+    depth = _depth(data)
+    if depth > MAX_SITE_DEPTH:
+        raise SiteInputError(f"arrays and tables nested at most {MAX_SITE_DEPTH} deep", file=file,
+                             got=f"{depth} deep")
     try:
         spec = SiteSpec.model_validate(data)
     except ValidationError as exc:
         raise site_error(exc, data, file, text) from None
+    except SiteInputError as exc:   # a validator that read a named file
+        raise exc.with_file(file) from None
+    except (RecursionError, TypeError, KeyError, IndexError, AttributeError, OverflowError, ValueError) as exc:
+        # a validator met a shape it did not expect: still one line, never a traceback
+        raise SiteInputError(f"a site file the checker can read (it stopped on a {type(exc).__name__})",
+                             file=file) from None
     spec._base_dir = base_dir or Path.cwd()
     spec._file = file
     return spec
@@ -167,12 +232,24 @@ def parse_site(data: dict[str, Any], *, file: str = "<site>", base_dir: Path | N
 
 def parse_site_text(text: str, *, file: str = "<site>", base_dir: Path | None = None) -> SiteSpec:
     """Parse and validate TOML text."""
+    if not isinstance(text, str):
+        raise SiteInputError("TOML text", file=file, got=f"a {type(text).__name__}")
+    if len(text) > MAX_SITE_CHARS:
+        raise SiteInputError(f"a site file of at most {MAX_SITE_CHARS // 1_000_000} MB", file=file,
+                             got=f"{len(text):,} characters")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         match = _TOML_LINE.search(str(exc))
-        raise SiteInputError("valid TOML (" + str(exc).split(" (at")[0] + ")", file=file,
-                             line=int(match[1]) if match else None) from None
+        reason = one_line(str(exc).split(" (at")[0])
+        raise SiteInputError(f"valid TOML ({reason})", file=file, line=int(match[1]) if match else None) from None
+    except RecursionError:
+        raise SiteInputError(f"arrays and tables nested at most {MAX_SITE_DEPTH} deep", file=file) from None
+    except ValueError:   # an integer beyond Python's digit limit for conversion
+        raise SiteInputError("numbers of at most 4300 digits (an integer field wants far fewer)",
+                             file=file, line=_long_number_line(text)) from None
+    except Exception as exc:   # anything else the TOML parser may raise on hostile text
+        raise SiteInputError(f"valid TOML (the parser stopped: {type(exc).__name__})", file=file) from None
     return parse_site(data, file=file, base_dir=base_dir, text=text)
 
 
@@ -182,7 +259,12 @@ def load_site(path: str | Path) -> SiteSpec:
     if not path.is_file():
         raise SiteInputError("an existing site file (.toml)", file=str(path))
     try:
-        text = path.read_text(encoding="utf-8")
+        with path.open("rb") as handle:
+            raw = handle.read(MAX_SITE_CHARS + 1)
+        if len(raw) > MAX_SITE_CHARS:
+            raise SiteInputError(f"a site file of at most {MAX_SITE_CHARS // 1_000_000} MB", file=str(path),
+                                 got=f"{path.stat().st_size:,} bytes")
+        text = raw.decode("utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise SiteInputError(f"a readable UTF-8 text file ({exc.__class__.__name__})", file=str(path)) from None
     return parse_site_text(text, file=str(path), base_dir=path.resolve().parent)

@@ -27,6 +27,7 @@ from typing import Annotated, Any, Literal
 import numpy as np
 from pydantic import Field, model_validator
 
+from .errors import choose
 from .fields import Section, quantity
 from .timegrid import SECONDS_PER_HOUR
 
@@ -60,9 +61,7 @@ BACKUP_PRESETS: dict[str, dict[str, Any]] = {
 def _merge_preset(data: Any, presets: dict[str, dict[str, Any]], key: str, default: str) -> Any:
     if not isinstance(data, dict):
         return data
-    name = data.get(key, default)
-    if name not in presets:
-        raise ValueError(f"{key} must be one of {', '.join(presets)}")
+    name = choose(data, key, presets, default)
     return {key: name, **presets[name], **data}
 
 

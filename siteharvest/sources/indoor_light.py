@@ -372,7 +372,8 @@ class IndoorLightSource(SourceBase):
         if not isinstance(data, dict):
             return data
         name = data.get("technology", DEFAULT_TECHNOLOGY)
-        return {**TECHNOLOGIES.get(name, {}), **data}   # an unknown name fails on the field itself
+        start = TECHNOLOGIES.get(name, {}) if isinstance(name, str) else {}
+        return {**start, **data}   # an unknown name (or a list, a table) fails on the field itself
 
 
 assert set(LightSource.__args__) == set(photometry.LAMP_SOURCES)  # type: ignore[attr-defined]

@@ -29,6 +29,7 @@ from scipy import constants
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
+from ..errors import choose
 from ..fields import quantity
 from ..sun import angle_of_incidence_deg
 from .base import SourceBase, SourceOutput
@@ -200,12 +201,8 @@ class SolarSource(SourceBase):
     def _start_from_presets(cls, data: Any) -> Any:
         if not isinstance(data, dict):
             return data
-        tech = data.get("technology", "monocrystalline-silicon")
-        if tech not in TECHNOLOGY_PRESETS:
-            raise ValueError(f"technology must be one of {', '.join(TECHNOLOGY_PRESETS)}")
-        mount = data.get("mounting", "open-rack")
-        if mount not in MOUNTING_PRESETS:
-            raise ValueError(f"mounting must be one of {', '.join(MOUNTING_PRESETS)}")
+        tech = choose(data, "technology", TECHNOLOGY_PRESETS, "monocrystalline-silicon")
+        mount = choose(data, "mounting", MOUNTING_PRESETS, "open-rack")
         return {"technology": tech, "mounting": mount, **TECHNOLOGY_PRESETS[tech],
                 **MOUNTING_PRESETS[mount], **data}
 

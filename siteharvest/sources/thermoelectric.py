@@ -49,7 +49,7 @@ from pydantic import Field, model_validator
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
-from ..errors import SiteInputError
+from ..errors import SiteInputError, choose
 from ..fields import Section, quantity
 from ..schedule import WeeklySchedule
 from ..timegrid import HOURS_PER_YEAR
@@ -180,9 +180,7 @@ class ThermoelectricSource(SourceBase):
     def _start_from_preset(cls, data: Any) -> Any:
         if not isinstance(data, dict):
             return data
-        name = data.get("preset", DEFAULT_MODULE)
-        if name not in MODULE_PRESETS:
-            raise ValueError(f"preset must be one of {', '.join(MODULE_PRESETS)}, not '{name}'")
+        name = choose(data, "preset", MODULE_PRESETS, DEFAULT_MODULE)
         merged = {"preset": name, **MODULE_PRESETS[name], **data}
         hot = merged.get("hot_side")
         if isinstance(hot, int | float) and not isinstance(hot, bool):

@@ -63,6 +63,7 @@ from scipy.optimize import brentq
 
 from ..conditioning import ConditioningSpec, bridge_rectifier
 from ..context import SpotContext
+from ..errors import choose
 from ..fields import Section, quantity
 from ..schedule import WeeklySchedule
 from ..vibration_spectrum import (
@@ -392,9 +393,7 @@ class VibrationSource(SourceBase):
     def _start_from_preset(cls, data: Any) -> Any:
         if not isinstance(data, dict) or data.get("preset") is None:
             return data
-        name = data["preset"]
-        if name not in VIBRATION_PRESETS:
-            raise ValueError(f"preset must be one of {', '.join(VIBRATION_PRESETS)}, not {name!r}")
+        name = choose(data, "preset", VIBRATION_PRESETS, "")
         if data.get("spectrum_file") is not None:
             raise ValueError("give the spectrum one way: a preset (or peak tables) or spectrum_file, "
                              "not both")
