@@ -477,6 +477,8 @@ def _triggered_id() -> Any:
 
 def register(app: dash.Dash) -> None:
     """Wire the study views and the report buttons to ``app``."""
+    from .report_queue import one_report_at_a_time  # one report browser at a time per server
+
     app.callback(
         Output(ids.SIZING_TARGET, "value"), Output(ids.SIZING_TARGET_FROM, "data"),
         Input(ids.SPOT_PICKER, "value"), Input(ids.SPOTS, "data"), State(ids.SIZING_TARGET_FROM, "data"),
@@ -503,9 +505,10 @@ def register(app: dash.Dash) -> None:
         State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
         running=[(Output(ids.REPORT_PDF_BUTTON, "disabled"), True, False),
                  (Output(ids.REPORT_HTML_BUTTON, "disabled"), True, False),
-                 (Output(ids.REPORT_BUSY, "children"), "Preparing the report…", "")],
+                 (Output(ids.REPORT_BUSY, "children"),
+                  "Preparing the report (queued while another is made: one at a time)…", "")],
         prevent_initial_call=True,
-    )(download_report)
+    )(one_report_at_a_time(download_report))
 
     app.callback(
         Output(ids.PORTFOLIO_DOWNLOAD, "data"), Output(ids.PORTFOLIO_MSG, "children"),
@@ -513,7 +516,7 @@ def register(app: dash.Dash) -> None:
         State(ids.SPOTS, "data"), State(ids.FILES, "data"),
         running=[(Output(ids.PORTFOLIO_PDF_BUTTON, "disabled"), True, False),
                  (Output(ids.PORTFOLIO_HTML_BUTTON, "disabled"), True, False),
-                 (Output(ids.PORTFOLIO_BUSY, "children"), "Preparing the portfolio report (about a second a spot)…",
-                  "")],
+                 (Output(ids.PORTFOLIO_BUSY, "children"),
+                  "Preparing the portfolio report (about a second a spot; queued while another is made)…", "")],
         prevent_initial_call=True,
-    )(download_portfolio_report)
+    )(one_report_at_a_time(download_portfolio_report))

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import dash
 
-from . import callbacks
+from . import callbacks, security
 from .bundled import ASSETS
 from .engine import load_records
 from .layout import build_layout
@@ -31,8 +31,12 @@ INDEX = """<!DOCTYPE html>
 """
 
 
-def create_app(paths: list[Path] | list[str] | None = None) -> dash.Dash:
-    """A dashboard over the site files (or folders of them) in ``paths``; none: the sample spots."""
+def create_app(paths: list[Path] | list[str] | None = None, *, password: str | None = None) -> dash.Dash:
+    """A dashboard over the site files (or folders of them) in ``paths``; none: the sample spots.
+
+    Every response carries the security headers and requests over the size limit are refused
+    (:mod:`app.security`); with ``password``, every route asks for it (HTTP Basic, user ``siteharvest``).
+    """
     spots, errors = load_records([Path(p) for p in paths] if paths else None)
     app = dash.Dash(
         __name__,
@@ -48,4 +52,7 @@ def create_app(paths: list[Path] | list[str] | None = None) -> dash.Dash:
     app.index_string = INDEX.replace("{%app_path%}assets/mark.svg", app.get_asset_url("mark.svg"))
     app.layout = build_layout(spots, errors, app.get_asset_url("mark.svg"))
     callbacks.register(app)
+    security.secure_headers(app)  # after the callbacks: the inline-script hashes depend on them
+    if password is not None:
+        security.require_password(app, password)
     return app

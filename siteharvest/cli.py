@@ -194,8 +194,8 @@ def cmd_serve(args: argparse.Namespace) -> int:
     except ImportError:
         print("siteharvest: the dashboard is not installed in this build", file=sys.stderr)
         return 1
-    serve([Path(p) for p in args.paths], host=args.host, port=args.port)
-    return 0
+    return serve([Path(p) for p in args.paths], host=args.host, port=args.port, workers=args.workers,
+                 password_file=args.password_file)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -236,10 +236,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(func=cmd_report)
     p = sub.add_parser("schema", help="print the JSON Schema of the site file")
     p.set_defaults(func=cmd_schema)
-    p = sub.add_parser("serve", help="start the dashboard (default: the bundled sample spots)")
+    p = sub.add_parser("serve", help="start the dashboard (default: the bundled sample spots)",
+                       description="Serve the dashboard on a production WSGI server (waitress; gunicorn with "
+                       "--workers). An address other than loopback needs a password: $SITEHARVEST_PASSWORD or "
+                       "--password-file; a password given on loopback is asked for too.")
     p.add_argument("paths", nargs="*", help="site files or folders of them")
-    p.add_argument("--host", default="127.0.0.1")
-    p.add_argument("--port", type=int, default=8050)
+    p.add_argument("--host", default="127.0.0.1",
+                   help="address to listen on (default 127.0.0.1: this machine only; another needs a password)")
+    p.add_argument("--port", type=int, default=8050, help="port to listen on (default 8050)")
+    p.add_argument("--workers", type=int, default=1, metavar="N",
+                   help="worker processes (default 1: one waitress process; N > 1 runs gunicorn, Linux only)")
+    p.add_argument("--password-file", metavar="FILE",
+                   help="file whose first line is the password (user 'siteharvest'; default: $SITEHARVEST_PASSWORD)")
     p.set_defaults(func=cmd_serve)
     return parser
 

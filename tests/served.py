@@ -1,0 +1,58 @@
+"""The dashboard on a real waitress server in this process, on a free loopback port, and plain HTTP
+helpers for talking to it (http.client: nothing leaves this machine)."""
+
+from __future__ import annotations
+
+import base64
+import http.client
+import json
+import threading
+from collections.abc import Iterator
+from contextlib import contextmanager
+from typing import Any
+
+from app.server import wsgi_server
+
+HOST = "127.0.0.1"
+
+
+@contextmanager
+def running(app: Any, threads: int = 8) -> Iterator[int]:
+    """Serve the Dash ``app`` with waitress on 127.0.0.1 and a free port; yields the port."""
+    server = wsgi_server(app, HOST, 0, threads=threads)
+    thread = threading.Thread(target=server.run, daemon=True, name="test-waitress")
+    thread.start()
+    try:
+        yield int(server.effective_port)
+    finally:
+        server.close()
+        server.task_dispatcher.shutdown()
+        thread.join(timeout=10)
+
+
+def basic(user: str, password: str) -> dict[str, str]:
+    token = base64.b64encode(f"{user}:{password}".encode()).decode()
+    return {"Authorization": f"Basic {token}"}
+
+
+def request(port: int, method: str, path: str, body: bytes | None = None, headers: dict[str, str] | None = None,
+            timeout_s: float = 120.0) -> tuple[int, dict[str, str], bytes]:
+    """One request on a fresh connection: (status, headers with lower-case names, body)."""
+    conn = http.client.HTTPConnection(HOST, port, timeout=timeout_s)
+    try:
+        conn.request(method, path, body=body, headers=headers or {})
+        reply = conn.getresponse()
+        return reply.status, {k.lower(): v for k, v in reply.getheaders()}, reply.read()
+    finally:
+        conn.close()
+
+
+def post_json(port: int, path: str, payload: Any, headers: dict[str, str] | None = None,
+              timeout_s: float = 120.0) -> tuple[int, Any]:
+    data = json.dumps(payload).encode()
+    status, _, body = request(port, "POST", path, data, {"Content-Type": "application/json", **(headers or {})},
+                              timeout_s)
+    try:
+        return status, json.loads(body)
+    except ValueError:
+        return status, body.decode("utf-8", "replace")
