@@ -15,30 +15,32 @@ from typing import Any
 
 import dash
 import numpy as np
-from dash import ALL, Input, Output, State, html, no_update
+from dash import ALL, ClientsideFunction, Input, Output, State, html, no_update
 from dash.exceptions import PreventUpdate
 
 from siteharvest.cautions import DEFER
 from siteharvest.errors import SiteInputError
-from siteharvest.site import dump_site, parse_site, parse_site_text
+from siteharvest.files import ListedFiles, named_in_dict
+from siteharvest.site import SiteSpec, dump_site, parse_site, parse_site_text
 from siteharvest.vibration_spectrum import read_spectrum_csv
 
 from . import callbacks_study, ids
 from .editor import render_editor
 from .engine import (
     assessment_for,
+    bundled_files,
     check_weather_text,
     clean_message,
-    materialise,
     record_from_spec,
-    sha256_text,
     site_dict,
     unique_key,
+    upload_name,
 )
 from .fieldspec import EditProblem, apply_action, apply_edit, apply_spectrum, display_value, value_at
 from .figures import case_calendar_figure, case_week_figure, case_year_figure, empty_figure, find_case, sources_figure
 from .layout import spot_options
 from .tables import SUMMARY_COLUMNS, summary_rows
+from .uploads import upload_store
 
 log = logging.getLogger(__name__)
 Trigger = tuple[Any, Any]
@@ -86,10 +88,11 @@ def _upload_name(uploads: dict[str, str], name: str, sha: str) -> str:
     return f"{stem}-{n}{ext}"
 
 
-def _referenced_files(spots: dict[str, Any], files: dict[str, str]) -> dict[str, str]:
-    """Only the uploaded texts some spot still uses."""
-    used = {sha for rec in spots.values() for sha in (rec.get("files") or {}).values()}
-    return {sha: text for sha, text in files.items() if sha in used}
+def _forget_unused_uploads(session: str | None, spots: dict[str, Any]) -> None:
+    """Remove the session's uploads that no spot names any more."""
+    used = {sha for rec in (spots or {}).values() if isinstance(rec.get("files"), dict)
+            for sha in rec["files"].values()}
+    upload_store().keep_only(session, used)
 
 
 def _readable_path(path: str) -> str:
@@ -109,7 +112,7 @@ def _problem_text(exc: Exception) -> str:
 # the editor
 
 
-def render_editor_cb(key: str, rev: int, spots: dict[str, Any], files: dict[str, str] | None,
+def render_editor_cb(key: str, rev: int, spots: dict[str, Any], session: str | None,
                      group_open: list[bool] | None = None, group_ids: list[dict[str, str]] | None = None) -> Any:
     """Rebuild the editor for the chosen spot (after a change of spot, structure or preset).
 
@@ -176,7 +179,7 @@ def edit_structure(clicks: list[int | None], key: str, spots: dict[str, Any], re
 
 def _decode_upload(contents: str | None, filename: str | None) -> tuple[str, str]:
     """(file name, text) of a dcc.Upload value; SiteInputError for binary or oversized files."""
-    name = filename or "upload"
+    name = upload_name(filename)
     if not contents or "," not in contents:
         raise SiteInputError("a file", file=name, got="nothing")
     try:
@@ -198,38 +201,40 @@ def _decode_upload(contents: str | None, filename: str | None) -> tuple[str, str
 
 
 def upload_weather(contents: str | None, filename: str | None, key: str, spots: dict[str, Any],
-                   files: dict[str, str] | None, rev: int) -> tuple[Any, Any, str, Any, Any]:
+                   session: str | None, rev: int) -> tuple[Any, str, Any, Any]:
     """A weather file dropped on the editor: use it when it reads; else say why and keep the spot.
 
-    Returns (spots, files, message beside the upload, note above the editor, editor revision).
+    The text is kept on the server for this page's session. Returns (spots, message beside the upload,
+    note above the editor, editor revision).
     """
     if not contents or key not in (spots or {}):
         raise PreventUpdate
     record = spots[key]
     try:
         name, text = _decode_upload(contents, filename)
-        notes = check_weather_text(name, text, record["site"])
-        sha = sha256_text(text)
+        sha = upload_store().put(session, text)
+        notes = check_weather_text(name, upload_store().path(session, sha), record["site"])
         name = _upload_name(record.get("files") or {}, name, sha)
         site = copy.deepcopy(record["site"])
         site["weather"] = {"file": name, "file_format": "auto"}
         new_site = _validate(site, record)
     except SiteInputError as exc:
-        return no_update, no_update, _problem_text(exc), no_update, no_update
+        _forget_unused_uploads(session, spots)
+        return no_update, _problem_text(exc), no_update, no_update
     uploads = {**(record.get("files") or {}), name: sha}
     weather_files = [n for n in record.get("weather_files") or [] if n != name] + [name]
     spots = _with_site(spots, key, new_site, files=uploads, weather_files=weather_files)
-    new_files = _referenced_files(spots, {**(files or {}), sha: text})
+    _forget_unused_uploads(session, spots)
     note = f"Weather from {name}." + (" " + "; ".join(clean_message(n) for n in notes[:3]) if notes else "")
-    return spots, new_files, "", note, (rev or 0) + 1
+    return spots, "", note, (rev or 0) + 1
 
 
 def upload_spectrum(contents: list[str | None], filenames: list[str | None], msg_ids: list[dict[str, str]],
-                    key: str, spots: dict[str, Any], files: dict[str, str] | None, rev: int, *,
-                    trigger: Trigger | None = None) -> tuple[Any, Any, list[Any], Any, Any]:
-    """A vibration survey spectrum dropped on a vibration source.
+                    key: str, spots: dict[str, Any], session: str | None, rev: int, *,
+                    trigger: Trigger | None = None) -> tuple[Any, list[Any], Any, Any]:
+    """A vibration survey spectrum dropped on a vibration source (kept on the server for this session).
 
-    Returns (spots, files, messages beside the uploads, note above the editor, editor revision).
+    Returns (spots, messages beside the uploads, note above the editor, editor revision).
     """
     upload_id, value = trigger if trigger is not None else _trigger()
     if not isinstance(upload_id, dict) or not value or key not in (spots or {}):
@@ -244,38 +249,72 @@ def upload_spectrum(contents: list[str | None], filenames: list[str | None], msg
 
     try:
         name, text = _decode_upload(value, filename)
-        sha = sha256_text(text)
+        sha = upload_store().put(session, text)
+        kept = upload_store().path(session, sha)
         name = _upload_name(record.get("files") or {}, name, sha)
         candidate, assumed = apply_spectrum(record["site"], path, name)
         src = value_at(candidate, path)
-        read_spectrum_csv(materialise(name, text), src.get("spectrum_kind", "amplitude"), src["spectrum_unit"],
-                          src.get("spectrum_measure"), frequency_column=src.get("frequency_column", "frequency_hz"),
-                          value_column=src.get("value_column"))
+        try:
+            read_spectrum_csv(kept, src.get("spectrum_kind", "amplitude"), src["spectrum_unit"],
+                              src.get("spectrum_measure"), frequency_column=src.get("frequency_column", "frequency_hz"),
+                              value_column=src.get("value_column"))
+        except SiteInputError as exc:
+            raise ListedFiles({name: kept}).explained(exc) from None
         new_site = _validate(candidate, record)
     except (SiteInputError, EditProblem) as exc:
-        return no_update, no_update, answer(_problem_text(exc)), no_update, no_update
+        _forget_unused_uploads(session, spots)
+        return no_update, answer(_problem_text(exc)), no_update, no_update
     uploads = {**(record.get("files") or {}), name: sha}
     spots = _with_site(spots, key, new_site, files=uploads)
+    _forget_unused_uploads(session, spots)
     src_id = value_at(new_site, path).get("id", path)
     note = f"Vibration of {src_id} from {name}" + (
         f" ({', '.join(assumed)}: check the spectrum fields)." if assumed else ".")
-    return spots, _referenced_files(spots, {**(files or {}), sha: text}), answer(""), note, (rev or 0) + 1
+    return spots, answer(""), note, (rev or 0) + 1
 
 
-def upload_site(contents: str | None, filename: str | None, key: str, spots: dict[str, Any]) -> tuple[Any, Any, str]:
-    """A site file opened from disk: add it to the portfolio and show it."""
+def upload_site(contents: str | list[str] | None, filenames: str | list[str] | None, key: str,
+                spots: dict[str, Any], session: str | None = None) -> tuple[Any, Any, str]:
+    """Site files opened from disk, with the data files they name chosen at the same time.
+
+    Each ``.toml`` file becomes a spot; every other file is kept for this page's session, and a spot
+    names it by its file name (``weather/station.epw`` finds ``station.epw``). A spot naming a file that
+    was not chosen with it is opened all the same, and the line says which file to add.
+    """
     if not contents:
         raise PreventUpdate
-    base_dir = (spots or {}).get(key, {}).get("base_dir") or "."
+    contents_list = contents if isinstance(contents, list) else [contents]
+    names_list = filenames if isinstance(filenames, list) else [filenames] * len(contents_list)
     try:
-        name, text = _decode_upload(contents, filename)
-        spec = parse_site_text(text, file=name)
+        decoded = [_decode_upload(c, n) for c, n in zip(contents_list, names_list, strict=False)]
+        sites = [(name, text) for name, text in decoded if name.lower().endswith(".toml")]
+        if not sites:
+            raise SiteInputError("a site file (.toml) among the files chosen", file=", ".join(n for n, _ in decoded))
+        data = {name: upload_store().put(session, text) for name, text in decoded if not name.lower().endswith(".toml")}
+        opened: list[tuple[str, SiteSpec, dict[str, str]]] = []
+        for name, text in sites:
+            spec = parse_site_text(text, file=name, files=ListedFiles({}, site=name))
+            companions = {written: data[base] for _, written in named_in_dict(site_dict(spec))
+                          if (base := upload_name(written)) in data}
+            opened.append((name, spec, companions))
     except SiteInputError as exc:
+        _forget_unused_uploads(session, spots)
         return no_update, no_update, _problem_text(exc)
-    stem = name.rsplit(".", 1)[0] or "spot"
-    new_key = unique_key(stem, spots or {})
-    spots = {**(spots or {}), new_key: record_from_spec(spec, new_key, name, base_dir)}
-    return spots, new_key, f"Opened {name} as '{spec.spot.name}'."
+    spots = dict(spots or {})
+    lines, new_key = [], key
+    for name, spec, companions in opened:
+        stem = name.rsplit(".", 1)[0] or "spot"
+        new_key = unique_key(stem, spots)
+        record = record_from_spec(spec, new_key, name)
+        record["files"] = companions
+        spots[new_key] = record
+        missing = [w for _, w in named_in_dict(record["site"]) if w not in companions and w not in bundled_files()]
+        line = f"Opened {name} as '{spec.spot.name}'."
+        if missing:
+            line += " It names " + ", ".join(missing) + ": open it together with the site file to use it."
+        lines.append(line)
+    _forget_unused_uploads(session, spots)
+    return spots, new_key, " ".join(lines)
 
 
 def download_site(n_clicks: int | None, key: str, spots: dict[str, Any]) -> dict[str, str]:
@@ -334,22 +373,22 @@ def _cautions(a: Any) -> list[Any]:
             html.P(DEFER, className="sh-defer")]
 
 
-def _notes(a: Any, base_dir: str | None) -> list[Any]:
+def _notes(a: Any) -> list[Any]:
     notes = list(a.warnings)
     if not notes:
         return []
     return [html.Details([html.Summary(f"Notes on this year ({len(notes)})"),
-                          html.Ul([html.Li(clean_message(n, base_dir)) for n in notes])])]
+                          html.Ul([html.Li(clean_message(n)) for n in notes])])]
 
 
-def recompute(spots: dict[str, Any], key: str, files: dict[str, str] | None,
+def recompute(spots: dict[str, Any], key: str, session: str | None,
               case_value: str | None) -> tuple[Any, ...]:
     """Assess the chosen spot: status, summary table, cautions, notes, sources figure, case choices."""
     if not spots or key not in spots:
         raise PreventUpdate
     record = spots[key]
     try:
-        a = assessment_for(record, files)
+        a = assessment_for(record, session)
     except (SiteInputError, ValueError) as exc:
         msg = _problem_text(exc)
         status = html.Div([html.Strong("This spot cannot be simulated yet: "), msg], className="sh-status-bad",
@@ -359,7 +398,7 @@ def recompute(spots: dict[str, Any], key: str, files: dict[str, str] | None,
     demand_uw = a.mean_power_uw
     status = html.Div([
         html.Span(spot.name, className="sh-status-name"),
-        html.Span(f"weather: {clean_message(a.prepared.weather_meta.source, record.get('base_dir'))}"),
+        html.Span(f"weather: {clean_message(a.prepared.weather_meta.source)}"),
         html.Span(f"mean demand {demand_uw:.3g} µW"),
         html.Span(f"usable store {a.usable_energy_j:.3g} J"),
         html.Span(f"{len(a.sources)} source{'s' if len(a.sources) != 1 else ''}"),
@@ -368,17 +407,17 @@ def recompute(spots: dict[str, Any], key: str, files: dict[str, str] | None,
                 "value": c.id} for c in a.cases]
     values = [o["value"] for o in options]
     value = case_value if case_value in values else values[0]
-    return (status, _summary_table(a), _cautions(a), _notes(a, record.get("base_dir")), sources_figure(a), options,
+    return (status, _summary_table(a), _cautions(a), _notes(a), sources_figure(a), options,
             value)
 
 
 def case_views(case_id: str | None, week: str | None, spots: dict[str, Any], key: str,
-               files: dict[str, str] | None) -> tuple[Any, Any, Any, str]:
+               session: str | None) -> tuple[Any, Any, Any, str]:
     """The year heatmap, the calendar and the week of the chosen source."""
     if not spots or key not in spots or case_id is None:
         raise PreventUpdate
     try:
-        a = assessment_for(spots[key], files)
+        a = assessment_for(spots[key], session)
     except (SiteInputError, ValueError) as exc:
         blank = empty_figure(_problem_text(exc)[:120])
         return blank, blank, blank, ""
@@ -390,7 +429,7 @@ def case_views(case_id: str | None, week: str | None, spots: dict[str, Any], key
     return case_year_figure(a, case), case_calendar_figure(case), week_fig, text
 
 
-def portfolio(tab: str, spots: dict[str, Any], files: dict[str, str] | None) -> list[dict[str, Any]]:
+def portfolio(tab: str, spots: dict[str, Any], session: str | None) -> list[dict[str, Any]]:
     """Every loaded spot with its best source (computed when the portfolio tab is open)."""
     from .tables import portfolio_row
 
@@ -399,7 +438,7 @@ def portfolio(tab: str, spots: dict[str, Any], files: dict[str, str] | None) -> 
     rows = []
     for key, record in spots.items():
         try:
-            rows.append(portfolio_row(key, record.get("file", ""), assessment_for(record, files)))
+            rows.append(portfolio_row(key, record.get("file", ""), assessment_for(record, session)))
         except (SiteInputError, ValueError) as exc:
             rows.append(portfolio_row(key, record.get("file", ""), None, _problem_text(exc),
                                       record["site"]["spot"]["name"]))
@@ -433,7 +472,7 @@ def register(app: dash.Dash) -> None:
         Output(ids.EDITOR, "children"), Output(ids.EDITOR_MSG, "children", allow_duplicate=True),
         Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
         Input(ids.SPOT_PICKER, "value"), Input(ids.FORM_REV, "data"),
-        State(ids.SPOTS, "data"), State(ids.FILES, "data"), State(group_all, "open"), State(group_all, "id"),
+        State(ids.SPOTS, "data"), State(ids.SESSION, "data"), State(group_all, "open"), State(group_all, "id"),
         prevent_initial_call=True,
     )(render_editor_cb)
 
@@ -454,21 +493,19 @@ def register(app: dash.Dash) -> None:
     )(edit_structure)
 
     app.callback(
-        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FILES, "data", allow_duplicate=True),
-        Output(ids.WEATHER_UPLOAD_MSG, "children"), Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
-        Output(ids.FORM_REV, "data", allow_duplicate=True),
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.WEATHER_UPLOAD_MSG, "children"),
+        Output(ids.EDITOR_NOTE, "children", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
         Input(ids.WEATHER_UPLOAD, "contents"), State(ids.WEATHER_UPLOAD, "filename"),
-        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(upload_weather)
 
     app.callback(
-        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FILES, "data", allow_duplicate=True),
-        Output(spectrum_msg_all, "children"), Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
-        Output(ids.FORM_REV, "data", allow_duplicate=True),
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(spectrum_msg_all, "children"),
+        Output(ids.EDITOR_NOTE, "children", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
         Input(spectrum_all, "contents"), State(spectrum_all, "filename"), State(spectrum_msg_all, "id"),
-        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(upload_spectrum)
@@ -477,7 +514,7 @@ def register(app: dash.Dash) -> None:
         Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
         Output(ids.SITE_UPLOAD_MSG, "children"),
         Input(ids.SITE_UPLOAD, "contents"), State(ids.SITE_UPLOAD, "filename"),
-        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         prevent_initial_call=True,
     )(upload_site)
 
@@ -487,6 +524,10 @@ def register(app: dash.Dash) -> None:
         prevent_initial_call=True,
     )(download_site)
 
+    app.clientside_callback(ClientsideFunction("siteharvest", "newSession"),
+                            Output(ids.SESSION, "data"), Input(ids.SESSION, "modified_timestamp"),
+                            State(ids.SESSION, "data"))
+
     app.callback(Output(ids.SPOT_PICKER, "options"), Input(ids.SPOTS, "data"))(picker_options)
 
     app.callback(
@@ -494,19 +535,19 @@ def register(app: dash.Dash) -> None:
         Output(ids.NOTES, "children"), Output(ids.FIG_SOURCES, "figure"),
         Output(ids.CASE_PICKER, "options"), Output(ids.CASE_PICKER, "value"),
         Input(ids.SPOTS, "data"), Input(ids.SPOT_PICKER, "value"),
-        State(ids.FILES, "data"), State(ids.CASE_PICKER, "value"),
+        State(ids.SESSION, "data"), State(ids.CASE_PICKER, "value"),
     )(recompute)
 
     app.callback(
         Output(ids.FIG_YEAR, "figure"), Output(ids.FIG_CALENDAR, "figure"), Output(ids.FIG_WEEK, "figure"),
         Output(ids.WEEK_CAPTION, "children"),
         Input(ids.CASE_PICKER, "value"), Input(ids.WEEK_PICKER, "value"),
-        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.FILES, "data"),
+        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
     )(case_views)
 
     app.callback(
         Output(ids.PORTFOLIO_TABLE, "rowData"),
-        Input(ids.TABS, "value"), Input(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        Input(ids.TABS, "value"), Input(ids.SPOTS, "data"), State(ids.SESSION, "data"),
     )(portfolio)
 
     app.callback(

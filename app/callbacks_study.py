@@ -9,11 +9,8 @@ files it names) plus the view's own inputs, like the engine's assessment cache.
 from __future__ import annotations
 
 import contextlib
-import copy
 import logging
 import math
-import re
-import tempfile
 from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
@@ -25,7 +22,7 @@ from dash.exceptions import PreventUpdate
 
 from siteharvest.assess import COMBINED_ID, Assessment, CaseResult
 from siteharvest.errors import SiteInputError
-from siteharvest.site import SiteSpec, parse_site
+from siteharvest.site import SiteSpec
 from siteharvest.sizing import (
     OUTAGE_KINDS,
     ReportInterval,
@@ -42,11 +39,8 @@ from .engine import (
     _key,
     assessment_for,
     clean_message,
-    file_refs,
-    get_in,
-    materialise,
-    resolve_record,
-    set_in,
+    content_key,
+    spec_for,
 )
 from .figures import empty_figure, find_case
 from .figures_sizing import SIZE_LABELS, risk_histogram, sizing_heatmap
@@ -68,12 +62,6 @@ MAX_TARGET_DAYS = 365
 
 SIZING_STUDIES = MemoCache(16)  # (sizing map, report interval), by spot content, case, target and steps
 RISK_STUDIES = MemoCache(8)  # weather risks, by spot content and the risk inputs
-
-
-def content_key(record: dict[str, Any], files: dict[str, str] | None) -> str:
-    """The key the engine caches the spot's assessment under: site dict, folder and file digests."""
-    resolved = resolve_record(record, files)
-    return _key(resolved.site, str(resolved.base_dir), resolved.digests)
 
 
 def _problem(exc: Exception) -> str:
@@ -122,7 +110,7 @@ def sync_target(key: str, spots: dict[str, Any], shown_for: list[Any] | None) ->
     return target, [key, target]
 
 
-def sizing_study(a: Assessment, record: dict[str, Any], files: dict[str, str] | None, case_id: str,
+def sizing_study(a: Assessment, record: dict[str, Any], session: str | None, case_id: str,
                  target: int) -> tuple[SizingMap | None, ReportInterval | None]:
     """The sizing map (single sources only) and the fastest sustainable reporting, memoised."""
     def make() -> tuple[SizingMap | None, ReportInterval | None]:
@@ -131,7 +119,7 @@ def sizing_study(a: Assessment, record: dict[str, Any], files: dict[str, str] | 
                                                              n_store=SIZING_STEPS, max_deficit_days=target)
         return m, report_interval(prep, case_id, max_deficit_days=target)
 
-    key = _key("sizing", content_key(record, files), case_id, target, SIZING_STEPS)
+    key = _key("sizing", content_key(record, session), case_id, target, SIZING_STEPS)
     return SIZING_STUDIES.get_or_make(key, make)
 
 
@@ -233,14 +221,14 @@ def _open_view_record(tab: str | None, view: str, spots: dict[str, Any], key: st
 
 
 def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[str, Any], key: str,
-                files: dict[str, str] | None) -> tuple[Any, Any, Any]:
+                session: str | None) -> tuple[Any, Any, Any]:
     """The sizing map of the chosen source and its plain-words line (only while the tab is open).
 
     Returns (figure, words, style of the figure: hidden when there is no map to draw).
     """
     record = _open_view_record(tab, ids.TAB_SIZING, spots, key)
     try:
-        a = assessment_for(record, files)
+        a = assessment_for(record, session)
     except (SiteInputError, ValueError) as exc:
         return empty_figure("no sizing map", 520), _not_simulated(exc), HIDDEN
     t = a.spec.run.target_deficit_days if target is None else _whole(target, 0, MAX_TARGET_DAYS)
@@ -249,7 +237,7 @@ def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[s
                                  className="sh-msg"), no_update
     case = find_case(a, case_id)
     try:
-        m, iv = sizing_study(a, record, files, case.id, t)
+        m, iv = sizing_study(a, record, session, case.id, t)
     except (SiteInputError, ValueError, KeyError) as exc:
         return (empty_figure("no sizing map", 520),
                 html.P(f"The sizing study could not be run: {_problem(exc)}", className="sh-msg"), HIDDEN)
@@ -270,12 +258,12 @@ def outage_note(a: Assessment) -> str:
     return f"Outages stop the heat and vibration sources ({', '.join(hit)}); the other sources run on."
 
 
-def risk_study(a: Assessment, record: dict[str, Any], files: dict[str, str] | None, years: int, seed: int,
+def risk_study(a: Assessment, record: dict[str, Any], session: str | None, years: int, seed: int,
                rate: float, mean_days: float) -> WeatherRisk:
     """Deficit days over resampled years for every case (memoised)."""
     if not any(s.kind in OUTAGE_KINDS for s in a.spec.source):
         rate = 0.0  # outages act on nothing: share the entry
-    key = _key("risk", content_key(record, files), years, seed, rate, mean_days)
+    key = _key("risk", content_key(record, session), years, seed, rate, mean_days)
     return RISK_STUDIES.get_or_make(key, lambda: weather_risk(a.prepared, years=years, seed=seed,
                                                               outage_rate_per_year=rate, outage_mean_days=mean_days))
 
@@ -314,7 +302,7 @@ def risk_table(a: Assessment, risk: WeatherRisk, chosen: str) -> html.Table:
 
 
 def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate: Any, mean_days: Any,
-              spots: dict[str, Any], key: str, files: dict[str, str] | None) -> tuple[Any, ...]:
+              spots: dict[str, Any], key: str, session: str | None) -> tuple[Any, ...]:
     """Deficit days over resampled years, for the chosen source and all together (only while the tab is open).
 
     Returns (table, figure of the chosen source, figure of all together, style of the latter's box, message line,
@@ -322,7 +310,7 @@ def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate:
     """
     record = _open_view_record(tab, ids.TAB_RISK, spots, key)
     try:
-        a = assessment_for(record, files)
+        a = assessment_for(record, session)
     except (SiteInputError, ValueError) as exc:
         blank = empty_figure("no weather risk: see the message", 420)
         return _not_simulated(exc), blank, blank, {"display": "none"}, "", ""
@@ -345,7 +333,7 @@ def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate:
     assert n_years is not None and n_seed is not None and n_rate is not None and n_days is not None
     case = find_case(a, case_id)
     try:
-        risk = risk_study(a, record, files, n_years, n_seed, n_rate, n_days)
+        risk = risk_study(a, record, session, n_years, n_seed, n_rate, n_days)
     except (SiteInputError, ValueError) as exc:
         blank = empty_figure("no weather risk", 420)
         return [], blank, blank, {"display": "none"}, f"The weather risk could not be run: {_problem(exc)}", ""
@@ -360,40 +348,10 @@ def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate:
 
 
 @contextlib.contextmanager
-def report_spec(record: dict[str, Any], files: dict[str, str] | None) -> Iterator[SiteSpec]:
-    """The spot as a SiteSpec whose files carry the names its site file gives them.
-
-    A private temporary folder stands in for the spot's folder while the report is made: uploads are
-    written into it under their names, files on disk are linked from their own folder, so the report lists
-    and hashes the files as the user knows them. The folder is removed afterwards.
-    """
-    files = files or {}
-    site = copy.deepcopy(record["site"])
-    base = Path(record.get("base_dir") or Path.cwd())
-    uploads: dict[str, str] = record.get("files") or {}
-    with tempfile.TemporaryDirectory(prefix="siteharvest-report-") as tmp:
-        root = Path(tmp).resolve()
-        for ref in file_refs(site):
-            name = str(get_in(site, ref))
-            if Path(name).is_absolute():
-                continue  # named in full: read where it is
-            sha = uploads.get(name)
-            source = materialise(name, files[sha]) if sha is not None and sha in files else base / name
-            place = (root / name).resolve()
-            if not place.is_relative_to(root) or place == root:
-                set_in(site, ref, str(source.resolve()))
-                continue
-            if not place.exists():
-                place.parent.mkdir(parents=True, exist_ok=True)
-                place.symlink_to(source.resolve())
-        spec = parse_site(site, file=record.get("file") or "<site>", base_dir=root)
-        yield spec
-
-
-def _without_report_folder(text: str) -> str:
-    """Drop the private folder of :func:`report_spec` from a message: the files keep the names the user gave."""
-    return re.sub(re.escape(str(Path(tempfile.gettempdir()).resolve())) + r"[/\\]siteharvest-report-[^/\\]+[/\\]",
-                  "", text)
+def report_spec(record: dict[str, Any], session: str | None) -> Iterator[SiteSpec]:
+    """The spot as a SiteSpec whose files resolve by the dashboard's one rule and carry the names its site
+    file gives them (the report lists and hashes them under those names)."""
+    yield spec_for(record, session)
 
 
 def _report_filename(record: dict[str, Any], key: str, fmt: str) -> str:
@@ -402,7 +360,7 @@ def _report_filename(record: dict[str, Any], key: str, fmt: str) -> str:
 
 
 def download_report(pdf_clicks: int | None, html_clicks: int | None, key: str, spots: dict[str, Any],
-                    files: dict[str, str] | None, *, trigger: Trigger | None = None) -> tuple[Any, str]:
+                    session: str | None, *, trigger: Trigger | None = None) -> tuple[Any, str]:
     """The report of the current spot (the last good values and its uploads), as PDF or HTML bytes.
 
     Returns (dcc.Download data, message line). A failure leaves the download alone and says why in one line.
@@ -418,18 +376,18 @@ def download_report(pdf_clicks: int | None, html_clicks: int | None, key: str, s
     from . import report
 
     try:
-        with report_spec(record, files) as spec:
+        with report_spec(record, session) as spec:
             content = report.build_report(spec, fmt=fmt, sizing_steps=REPORT_SIZING_STEPS,
                                           risk_years=REPORT_RISK_YEARS)
     except (report.ReportError, SiteInputError, ValueError, OSError) as exc:
         log.warning("report of %s failed: %s", key, exc)
-        return no_update, f"The report could not be made: {_without_report_folder(_problem(exc))}"
+        return no_update, f"The report could not be made: {_problem(exc)}"
     kind = "application/pdf" if fmt == "pdf" else "text/html"
     return dcc.send_bytes(content, _report_filename(record, key, fmt), type=kind), ""
 
 
 def download_portfolio_report(pdf_clicks: int | None, html_clicks: int | None, spots: dict[str, Any],
-                              files: dict[str, str] | None, *, trigger: Trigger | None = None) -> tuple[Any, str]:
+                              session: str | None, *, trigger: Trigger | None = None) -> tuple[Any, str]:
     """The report of every loaded spot (their last good values and uploads), ranked, as PDF or HTML bytes.
 
     A spot that cannot be studied is listed on the cover with its error; a spot whose files cannot be
@@ -450,16 +408,16 @@ def download_portfolio_report(pdf_clicks: int | None, html_clicks: int | None, s
             specs = []
             for key, record in spots.items():
                 try:
-                    specs.append(stack.enter_context(report_spec(record, files)))
+                    specs.append(stack.enter_context(report_spec(record, session)))
                 except (SiteInputError, ValueError, OSError) as exc:
-                    left_out.append(f"{record.get('file') or key}: {_without_report_folder(_problem(exc))}")
+                    left_out.append(f"{record.get('file') or key}: {_problem(exc)}")
             if not specs:
                 raise SiteInputError("at least one spot that can be laid out for the report", field="portfolio")
             content = report.build_report(specs, fmt=fmt, sizing_steps=REPORT_SIZING_STEPS,
                                           risk_years=REPORT_RISK_YEARS)
     except (report.ReportError, SiteInputError, ValueError, OSError) as exc:
         log.warning("portfolio report failed: %s", exc)
-        return no_update, f"The report could not be made: {_without_report_folder(_problem(exc))}"
+        return no_update, f"The report could not be made: {_problem(exc)}"
     kind = "application/pdf" if fmt == "pdf" else "text/html"
     note = ("Left out (their files could not be laid out): " + "; ".join(left_out)) if left_out else ""
     return dcc.send_bytes(content, f"portfolio-report.{fmt}", type=kind), note
@@ -487,7 +445,7 @@ def register(app: dash.Dash) -> None:
     app.callback(
         Output(ids.FIG_SIZING, "figure"), Output(ids.SIZING_TEXT, "children"), Output(ids.FIG_SIZING, "style"),
         Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.SIZING_TARGET, "value"),
-        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.FILES, "data"),
+        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
     )(sizing_view)
 
     app.callback(
@@ -496,13 +454,13 @@ def register(app: dash.Dash) -> None:
         Output(ids.RISK_OUTAGE_NOTE, "children"),
         Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.RISK_YEARS, "value"),
         Input(ids.RISK_SEED, "value"), Input(ids.RISK_OUTAGE_RATE, "value"), Input(ids.RISK_OUTAGE_DAYS, "value"),
-        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.FILES, "data"),
+        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
     )(risk_view)
 
     app.callback(
         Output(ids.REPORT_DOWNLOAD, "data"), Output(ids.REPORT_MSG, "children"),
         Input(ids.REPORT_PDF_BUTTON, "n_clicks"), Input(ids.REPORT_HTML_BUTTON, "n_clicks"),
-        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         running=[(Output(ids.REPORT_PDF_BUTTON, "disabled"), True, False),
                  (Output(ids.REPORT_HTML_BUTTON, "disabled"), True, False),
                  (Output(ids.REPORT_BUSY, "children"),
@@ -513,7 +471,7 @@ def register(app: dash.Dash) -> None:
     app.callback(
         Output(ids.PORTFOLIO_DOWNLOAD, "data"), Output(ids.PORTFOLIO_MSG, "children"),
         Input(ids.PORTFOLIO_PDF_BUTTON, "n_clicks"), Input(ids.PORTFOLIO_HTML_BUTTON, "n_clicks"),
-        State(ids.SPOTS, "data"), State(ids.FILES, "data"),
+        State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         running=[(Output(ids.PORTFOLIO_PDF_BUTTON, "disabled"), True, False),
                  (Output(ids.PORTFOLIO_HTML_BUTTON, "disabled"), True, False),
                  (Output(ids.PORTFOLIO_BUSY, "children"),

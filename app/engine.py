@@ -1,16 +1,18 @@
-"""Between the browser's state and the library: spot records, uploaded files and memo caches.
+"""Between the browser's state and the library: spot records, the files they name, and memo caches.
 
 A *spot record* is what the browser keeps for one spot (in a ``dcc.Store``)::
 
-    {"key": "roof-parapet", "site": {...dumped site dict...}, "base_dir": "/path/of/the/site/file",
+    {"key": "roof-parapet", "site": {...dumped site dict...}, "origin": "served:3f2a...",
      "file": "roof-parapet.toml", "files": {"upload.epw": "<sha256 of its text>"}}
 
-Uploaded files live as text in another store, ``{sha256: text}``. To simulate, the site dict is
-copied with every file it names made absolute: an uploaded file is written once into a
-content-addressed folder (a cache), any other name is resolved against ``base_dir``.
+Nothing in a record is trusted, and no server path is in it. The files a spot names resolve by one
+rule (:class:`siteharvest.files.ListedFiles`): among the uploads of the browser session that holds the
+record (kept on the server, :mod:`app.uploads`), the bundled sample data, and, for a spot the server
+was started with, the files that spot's own site file named then (``origin`` picks that list, which
+lives here on the server). Anything else is refused without looking at the disk.
 
-The caches below are caches, not state: every entry is a pure function of its key, so a restart or
-an eviction only costs time.
+The caches below are caches, not state: every entry is a pure function of its key (the spot's content
+and its files' digests), so a restart or an eviction only costs time.
 """
 
 from __future__ import annotations
@@ -18,21 +20,20 @@ from __future__ import annotations
 import copy
 import hashlib
 import json
-import os
-import tempfile
 import threading
 from collections import OrderedDict
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, TypeVar
 
 from siteharvest.assess import Assessment, assess, build_context
 from siteharvest.errors import SiteInputError
+from siteharvest.files import ListedFiles, listed_in_folder, named_files, named_in_dict, plain_name
 from siteharvest.site import SiteSpec, load_site, parse_site
 from siteharvest.weather import read_weather_file
 
 from .bundled import SAMPLE_SITES
+from .uploads import upload_store
 
 T = TypeVar("T")
 
@@ -74,51 +75,21 @@ ASSESSMENTS = MemoCache(12)  # whole assessments, by the site dict and the diges
 WEATHER_CHECKS = MemoCache(8)  # parsed uploads, by content hash
 
 
-def sha256_text(text: str) -> str:
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
-
-
-def workspace() -> Path:
-    """Folder of materialised uploads (content-addressed, shared by every session of this process)."""
-    folder = Path(tempfile.gettempdir()) / f"siteharvest-app-{os.getuid() if hasattr(os, 'getuid') else 0}"
-    folder.mkdir(parents=True, exist_ok=True)
-    return folder
-
-
-def materialise(name: str, text: str) -> Path:
-    """Write an uploaded file's text under its content hash (once) and return its path."""
-    digest = sha256_text(text)
-    folder = workspace() / digest[:32]
-    folder.mkdir(exist_ok=True)
-    path = folder / (Path(name).name or "upload.txt")
-    if not path.is_file():
-        tmp = path.with_suffix(path.suffix + f".{threading.get_ident()}.part")
-        tmp.write_text(text, encoding="utf-8")
-        tmp.replace(path)
-    return path
-
-
-def clean_message(message: str, base_dir: Path | str | None = None) -> str:
-    """Drop the cache folder (and the spot's folder) from messages: users know their files by the names
-    their site file gives."""
-    out = message
-    if base_dir:
-        out = out.replace(str(base_dir).rstrip("/\\") + os.sep, "")
-    prefix = str(workspace())
-    while prefix in out:
-        start = out.index(prefix)
-        rest = out[start + len(prefix):].lstrip("/\\")
-        rest = rest.split("/", 1)[1] if "/" in rest else rest
-        out = out[:start] + rest
-    return out
+def clean_message(message: str) -> str:
+    """A message as users should read it: one line (files are already named as their site names them)."""
+    return " ".join(str(message).split())
 
 
 # --------------------------------------------------------------------------------------------------
 # spot records
 
+UPLOADED = "upload"  # origin of a spot opened in the browser: only its session's uploads and the bundled data
+_SERVED: dict[str, dict[str, Path]] = {}  # origin -> files the server's own site file named (name -> path)
+_SERVED_LOCK = threading.Lock()
 
-def record_from_spec(spec: SiteSpec, key: str, file: str, base_dir: Path | str) -> dict[str, Any]:
-    return {"key": key, "site": site_dict(spec), "base_dir": str(base_dir), "file": file, "files": {}}
+
+def record_from_spec(spec: SiteSpec, key: str, file: str, origin: str = UPLOADED) -> dict[str, Any]:
+    return {"key": key, "site": site_dict(spec), "origin": origin, "file": file, "files": {}}
 
 
 def site_dict(spec: SiteSpec) -> dict[str, Any]:
@@ -146,6 +117,22 @@ def site_files(paths: list[Path] | None) -> list[Path]:
     return found
 
 
+def serve_spot(spec: SiteSpec, site_path: Path) -> str:
+    """Register the files a site file given to the server names; return the origin that lists them."""
+    listed: dict[str, Path] = {}
+    for named in named_files(spec):
+        try:
+            path = spec.files.path_of(named.name, named.field).resolve()
+        except (SiteInputError, OSError):
+            continue
+        if path.is_file():
+            listed[named.name] = path
+    origin = "served:" + hashlib.sha256(str(Path(site_path).resolve()).encode()).hexdigest()[:20]
+    with _SERVED_LOCK:
+        _SERVED[origin] = listed
+    return origin
+
+
 STARTER_SITE = {
     "spot": {"name": "new spot (synthetic weather)", "latitude_deg": 48.0, "longitude_deg": 10.0,
              "utc_offset_h": 1.0, "mounting_height_m": 1.5},
@@ -171,31 +158,42 @@ def load_records(paths: list[Path] | None) -> tuple[dict[str, dict[str, Any]], l
             errors.append(str(exc))
             continue
         key = unique_key(path.stem, records)
-        records[key] = record_from_spec(spec, key, path.name, path.resolve().parent)
+        records[key] = record_from_spec(spec, key, path.name, serve_spot(spec, path))
     if not records:
         spec = parse_site(copy.deepcopy(STARTER_SITE), file="new-spot.toml")
-        records["new-spot"] = record_from_spec(spec, "new-spot", "new-spot.toml", Path.cwd())
+        records["new-spot"] = record_from_spec(spec, "new-spot", "new-spot.toml")
     return records, errors
 
 
 # --------------------------------------------------------------------------------------------------
 # files named by a site dict
 
+_BUNDLED: dict[str, Path] | None = None
 
-def file_refs(site: dict[str, Any]) -> list[tuple[Any, ...]]:
-    """Paths (key tuples) of every file name inside a site dict."""
-    refs: list[tuple[Any, ...]] = []
-    if isinstance(site.get("weather"), dict) and site["weather"].get("file"):
-        refs.append(("weather", "file"))
-    for i, src in enumerate(site.get("source") or []):
-        if not isinstance(src, dict):
-            continue
-        if src.get("spectrum_file"):
-            refs.append(("source", i, "spectrum_file"))
-        hot = src.get("hot_side")
-        if isinstance(hot, dict) and hot.get("mode") == "file" and hot.get("file"):
-            refs.append(("source", i, "hot_side", "file"))
-    return refs
+
+def bundled_files() -> dict[str, Path]:
+    """The sample data files every spot may name (``surveys/pump-skid-p3.csv``, ...)."""
+    global _BUNDLED
+    if _BUNDLED is None:
+        _BUNDLED = listed_in_folder(SAMPLE_SITES)
+    return _BUNDLED
+
+
+def files_for(record: dict[str, Any], session: str | None) -> ListedFiles:
+    """The one rule for a browser's spot: its session's uploads, then its server-given files, then samples."""
+    listed = dict(bundled_files())
+    origin = record.get("origin")
+    if isinstance(origin, str):
+        listed.update(_SERVED.get(origin, {}))
+    digests: dict[str, str] = {}
+    store = upload_store()
+    uploads = record.get("files")
+    for name, sha in (uploads.items() if isinstance(uploads, dict) else []):
+        path = store.path(session, sha) if isinstance(name, str) else None
+        if path is not None:
+            listed[name] = path
+            digests[name] = sha
+    return ListedFiles(listed, digests, site=record.get("file") if isinstance(record.get("file"), str) else None)
 
 
 def get_in(data: Any, keys: tuple[Any, ...] | list[Any]) -> Any:
@@ -210,85 +208,64 @@ def set_in(data: Any, keys: tuple[Any, ...] | list[Any], value: Any) -> None:
     data[keys[-1]] = value
 
 
-def _digest_of_disk_file(path: Path) -> str:
-    try:
-        st = path.stat()
-    except OSError:
-        return "missing"
-    return f"{st.st_mtime_ns}-{st.st_size}"
+def spec_for(record: dict[str, Any], session: str | None) -> SiteSpec:
+    """The record's spot, its files resolved by :func:`files_for` (SiteInputError when it does not validate)."""
+    site = record.get("site")
+    if not isinstance(site, dict):
+        raise SiteInputError("a site table", file=record.get("file"), field="site")
+    return parse_site(copy.deepcopy(site), file=record.get("file") or "<site>", files=files_for(record, session))
 
 
-@dataclass
-class Resolved:
-    """A site dict with absolute file names, the digests of those files and the folder it lives in."""
-
-    site: dict[str, Any]
-    digests: dict[str, str]
-    base_dir: Path
-    file: str
-
-
-def resolve_record(record: dict[str, Any], files: dict[str, str] | None) -> Resolved:
-    """Make every file name of the spot absolute (uploads materialised, others from ``base_dir``)."""
-    files = files or {}
-    site = copy.deepcopy(record["site"])
-    base = Path(record.get("base_dir") or Path.cwd())
-    uploads: dict[str, str] = record.get("files") or {}
-    digests: dict[str, str] = {}
-    for ref in file_refs(site):
-        name = str(get_in(site, ref))
-        sha = uploads.get(name)
-        if sha is not None and sha in files:
-            path = materialise(name, files[sha])
-            digests[name] = sha
-        else:
-            path = Path(name) if Path(name).is_absolute() else base / name
-            digests[name] = _digest_of_disk_file(path)
-        set_in(site, ref, str(path))
-    return Resolved(site, digests, base, record.get("file") or "<site>")
-
-
-def spec_of(resolved: Resolved) -> SiteSpec:
-    return parse_site(copy.deepcopy(resolved.site), file=resolved.file, base_dir=resolved.base_dir)
+def content_key(record: dict[str, Any], session: str | None) -> str:
+    """The spot's content: its site dict and the digests of the files it names (a cache key)."""
+    site = record.get("site")
+    files = files_for(record, session)
+    digests = {name: files.fingerprint(name) for _, name in named_in_dict(site)}
+    # a spot on uploads is cached for its own session only: its results then never read another's files
+    owner = session if any(files.digests.get(name) for name in digests) else None
+    return _key(site, digests, owner)
 
 
 def _key(*parts: Any) -> str:
     return hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()).hexdigest()
 
 
-def assessment_for(record: dict[str, Any], files: dict[str, str] | None) -> Assessment:
-    """The spot's assessment (cached). Raises :class:`SiteInputError` with clean file names."""
-    resolved = resolve_record(record, files)
-    try:
-        spec = spec_of(resolved)
-        weather_file = resolved.site.get("weather", {}).get("file")
-        ctx_key = _key(resolved.site["spot"], resolved.site.get("weather"), str(resolved.base_dir),
-                       resolved.digests.get(str(weather_file), "") if weather_file else "")
-        full_key = _key(resolved.site, str(resolved.base_dir), resolved.digests)
+def assessment_for(record: dict[str, Any], session: str | None) -> Assessment:
+    """The spot's assessment (cached by content). Raises :class:`SiteInputError` naming files as the site does."""
+    spec = spec_for(record, session)
+    weather = record["site"].get("weather") or {}
+    weather_file = weather.get("file") if isinstance(weather, dict) else None
+    ctx_key = _key(record["site"]["spot"], weather,
+                   spec.files.fingerprint(weather_file) if isinstance(weather_file, str) else "")
 
-        def make() -> Assessment:
-            context = CONTEXTS.get_or_make(ctx_key, lambda: build_context(spec))
-            return assess(spec, context)
+    def make() -> Assessment:
+        context = CONTEXTS.get_or_make(ctx_key, lambda: build_context(spec))
+        return assess(spec, context)
 
-        return ASSESSMENTS.get_or_make(full_key, make)
-    except SiteInputError as exc:
-        base = resolved.base_dir
-        got = clean_message(exc.got, base) if isinstance(exc.got, str) else exc.got
-        raise SiteInputError(clean_message(exc.expected, base), file=clean_message(exc.file or "", base) or None,
-                             field=exc.field, got=got, line=exc.line) from None
+    return ASSESSMENTS.get_or_make(content_key(record, session), make)
 
 
-def check_weather_text(name: str, text: str, site: dict[str, Any], file_format: str = "auto") -> list[str]:
+def check_weather_text(name: str, path: Path, site: dict[str, Any], file_format: str = "auto") -> list[str]:
     """Parse an uploaded weather file (cached by content); return its notes or raise SiteInputError."""
-    spot = site.get("spot", {})
-    key = _key(sha256_text(text), file_format, spot.get("utc_offset_h"), spot.get("latitude_deg"),
+    spot = site.get("spot", {}) if isinstance(site.get("spot"), dict) else {}
+    sha = path.name
+    key = _key(sha, file_format, spot.get("utc_offset_h"), spot.get("latitude_deg"),
                spot.get("longitude_deg"), spot.get("altitude_m"))
 
     def parse() -> list[str]:
-        path = materialise(name, text)
-        _, meta = read_weather_file(path, file_format, name=name, utc_offset_h=spot.get("utc_offset_h"),
-                                    latitude_deg=spot.get("latitude_deg"),
-                                    longitude_deg=spot.get("longitude_deg"), altitude_m=spot.get("altitude_m"))
-        return list(meta.notes)
+        files = ListedFiles({name: path})
+        try:
+            _, meta = read_weather_file(path, file_format, name=name, utc_offset_h=spot.get("utc_offset_h"),
+                                        latitude_deg=spot.get("latitude_deg"),
+                                        longitude_deg=spot.get("longitude_deg"), altitude_m=spot.get("altitude_m"))
+        except SiteInputError as exc:
+            raise files.explained(exc) from None
+        return [files.shown(n) for n in meta.notes]
 
     return WEATHER_CHECKS.get_or_make(key, parse)
+
+
+def upload_name(filename: str | None, fallback: str = "upload") -> str:
+    """The name an uploaded file goes by in its spot: the last part of the browser's file name."""
+    name = str(filename or "").replace("\\", "/").rsplit("/", 1)[-1].strip()
+    return plain_name(name) or fallback

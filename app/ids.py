@@ -8,7 +8,7 @@ from __future__ import annotations
 
 # state (dcc.Store)
 SPOTS = "sh-spots"  # {key: spot record}: every loaded spot, as dumped site dicts
-FILES = "sh-files"  # {sha256: text}: uploaded weather and spectrum files
+SESSION = "sh-session"  # this page's random token: its uploads are kept on the server under it
 FORM_REV = "sh-form-rev"  # int: bumped when the editor must be rebuilt (structure or presets changed)
 
 # header

@@ -67,8 +67,10 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
             html.Label("Spot", htmlFor=ids.SPOT_PICKER, className="sh-top-label"),
             dcc.Dropdown(id=ids.SPOT_PICKER, options=spot_options(spots), value=first, clearable=False,
                          searchable=False, className="sh-spot-picker"),
-            dcc.Upload(id=ids.SITE_UPLOAD, multiple=False, className="sh-site-upload",
-                       children=html.Button("Open a site file…", className="sh-button", type="button")),
+            dcc.Upload(id=ids.SITE_UPLOAD, multiple=True, className="sh-site-upload",
+                       children=html.Button("Open site files…", className="sh-button", type="button",
+                                            title="a site file (.toml), chosen together with the weather "
+                                                  "or survey files it names")),
             html.Button("Save as site file", id=ids.SITE_DOWNLOAD_BUTTON, n_clicks=0, className="sh-button",
                         type="button"),
             dcc.Download(id=ids.SITE_DOWNLOAD),
@@ -144,7 +146,7 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
     ])
     return html.Div(className="sh-app", children=[
         dcc.Store(id=ids.SPOTS, data=spots),
-        dcc.Store(id=ids.FILES, data={}),
+        dcc.Store(id=ids.SESSION, data=None),
         dcc.Store(id=ids.FORM_REV, data=0),
         header,
         html.Main(className="sh-main", children=[editor, results]),

@@ -5,6 +5,7 @@ The same public functions serve the command line, the dashboard and the report.
 
 from __future__ import annotations
 
+import copy
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -15,6 +16,7 @@ from .cautions import Caution, cautions_for
 from .conditioning import condition
 from .context import SpotContext
 from .demand import demand_energy_j, mean_power_w
+from .errors import SiteInputError
 from .kernel import KernelResult, StoreArrays, simulate
 from .metrics import (
     J_PER_WH,
@@ -180,24 +182,35 @@ class Assessment:
 
 
 def build_context(spec: SiteSpec) -> tuple[SpotContext, WeatherMeta]:
-    """Load the weather year and make the spot's context."""
+    """Load the weather year and make the spot's context (files named as the site names them in errors)."""
     spot = spec.spot
-    weather, meta = load_weather_year(
-        spec.weather, latitude_deg=spot.latitude_deg, longitude_deg=spot.longitude_deg,
-        altitude_m=spot.altitude_m, utc_offset_h=spot.utc_offset_h, base_dir=spec.base_dir)
+    try:
+        weather, meta = load_weather_year(
+            spec.weather, latitude_deg=spot.latitude_deg, longitude_deg=spot.longitude_deg,
+            altitude_m=spot.altitude_m, utc_offset_h=spot.utc_offset_h, files=spec.files)
+    except SiteInputError as exc:
+        raise spec.files.explained(exc) from None
+    meta.source = spec.files.shown(meta.source)
+    meta.notes = [spec.files.shown(n) for n in meta.notes]
     ctx = SpotContext(weather=weather, latitude_deg=spot.latitude_deg, longitude_deg=spot.longitude_deg,
                       altitude_m=spot.altitude_m, utc_offset_h=meta.utc_offset_h,
-                      indoor_air_c=spot.indoor_air_c, indoors=spot.indoors, base_dir=spec.base_dir)
+                      indoor_air_c=spot.indoor_air_c, indoors=spot.indoors, files=spec.files)
     return ctx, meta
 
 
 def prepare(spec: SiteSpec, context: tuple[SpotContext, WeatherMeta] | None = None) -> Prepared:
     """Weather, demand and the conditioned harvest of every source (no simulation yet)."""
     ctx, meta = context if context is not None else build_context(spec)
+    if ctx.files is not spec.files:  # a shared context reads this spot's files by this spot's rule
+        ctx = copy.copy(ctx)
+        ctx.files = spec.files
     store_v = spec.store.representative_v
     harvests = []
     for src in spec.source:
-        out = source_output(src, ctx)
+        try:
+            out = source_output(src, ctx)
+        except SiteInputError as exc:
+            raise spec.files.explained(exc) from None
         cond = condition(src.conditioning, out.power_w, out.voltage_v, store_v)
         harvests.append(Harvest(src.id, src.kind, src.label or src.id, cond.running_w, cond.cold_w,
                                 cond.quiescent_w, src.conditioning.cold_start_until_v, out))

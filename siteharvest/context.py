@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from .files import FolderFiles, SiteFiles
 from .sun import extraterrestrial_normal_w_m2, sun_position
 from .timegrid import HOURS_PER_YEAR
 
@@ -35,7 +36,9 @@ class SpotContext:
     indoors : bool
         Whether the spot (and the node's store) sits indoors.
     base_dir : Path
-        Folder of the site file; relative file names resolve against it.
+        Folder of the site file; relative file names resolve against it when ``files`` is not given.
+    files : SiteFiles, optional
+        Where the files the site names are read from (the one rule of :mod:`siteharvest.files`).
     """
 
     weather: pd.DataFrame
@@ -46,6 +49,7 @@ class SpotContext:
     indoor_air_c: float = 21.0
     indoors: bool = False
     base_dir: Path = field(default_factory=Path.cwd)
+    files: SiteFiles | None = None
 
     def __post_init__(self) -> None:
         if len(self.weather) != HOURS_PER_YEAR:
@@ -81,7 +85,7 @@ class SpotContext:
             return np.full(HOURS_PER_YEAR, float(self.indoor_air_c))
         return self.weather["temp_air_c"].to_numpy(dtype=float)
 
-    def resolve(self, name: str | Path) -> Path:
-        """A file named in the site file, relative to the site file's folder."""
-        path = Path(name)
-        return path if path.is_absolute() else self.base_dir / path
+    def resolve(self, name: str | Path, field: str = "file") -> Path:
+        """Where to read a file the site names in ``field`` (SiteInputError when it may not be read)."""
+        files = self.files if self.files is not None else FolderFiles(Path(self.base_dir))
+        return files.path_of(str(name), field)

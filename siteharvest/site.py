@@ -20,6 +20,7 @@ from pydantic import Field, PrivateAttr, ValidationError, model_validator
 from .demand import NodeSpec
 from .errors import ChoiceError, SiteInputError, one_line
 from .fields import Section, quantity
+from .files import FolderFiles, SiteFiles
 from .schedule import parse_date
 from .sources import SOURCE_KINDS, AnySource
 from .store import StoreSpec
@@ -70,7 +71,7 @@ class SiteSpec(Section):
     source: list[AnySource] = Field(..., min_length=1, max_length=12,
                                     description="candidate harvesters at this spot")
     run: RunSpec = Field(default_factory=RunSpec, description="simulation and judgement settings")
-    _base_dir: Path = PrivateAttr(default_factory=Path.cwd)
+    _files: SiteFiles = PrivateAttr(default_factory=FolderFiles)
     _file: str | None = PrivateAttr(default=None)
 
     @model_validator(mode="after")
@@ -82,8 +83,14 @@ class SiteSpec(Section):
         return self
 
     @property
-    def base_dir(self) -> Path:
-        return self._base_dir
+    def files(self) -> SiteFiles:
+        """Where the files this spot names are read from (see :mod:`siteharvest.files`)."""
+        return self._files
+
+    @property
+    def base_dir(self) -> Path | None:
+        """The site file's folder when its files resolve beside it (the command line's rule), else None."""
+        return self._files.folder if isinstance(self._files, FolderFiles) else None
 
     @property
     def file(self) -> str | None:
@@ -207,8 +214,12 @@ def site_error(exc: ValidationError, data: Any, file: str, text: str | None = No
 
 
 def parse_site(data: dict[str, Any], *, file: str = "<site>", base_dir: Path | None = None,
-               text: str | None = None) -> SiteSpec:
-    """Validate a site dictionary (as read from TOML) into a :class:`SiteSpec`."""
+               text: str | None = None, files: SiteFiles | None = None) -> SiteSpec:
+    """Validate a site dictionary (as read from TOML) into a :class:`SiteSpec`.
+
+    The files it names resolve by ``files`` when given, else beside ``base_dir`` (default: the working
+    folder), the command line's rule.
+    """
     if not isinstance(data, dict):
         raise SiteInputError("a table of site fields", file=file, got=f"a {type(data).__name__}")
     depth = _depth(data)
@@ -225,12 +236,13 @@ def parse_site(data: dict[str, Any], *, file: str = "<site>", base_dir: Path | N
         # a validator met a shape it did not expect: still one line, never a traceback
         raise SiteInputError(f"a site file the checker can read (it stopped on a {type(exc).__name__})",
                              file=file) from None
-    spec._base_dir = base_dir or Path.cwd()
+    spec._files = files if files is not None else FolderFiles(Path(base_dir) if base_dir else Path.cwd())
     spec._file = file
     return spec
 
 
-def parse_site_text(text: str, *, file: str = "<site>", base_dir: Path | None = None) -> SiteSpec:
+def parse_site_text(text: str, *, file: str = "<site>", base_dir: Path | None = None,
+                    files: SiteFiles | None = None) -> SiteSpec:
     """Parse and validate TOML text."""
     if not isinstance(text, str):
         raise SiteInputError("TOML text", file=file, got=f"a {type(text).__name__}")
@@ -250,7 +262,7 @@ def parse_site_text(text: str, *, file: str = "<site>", base_dir: Path | None = 
                              file=file, line=_long_number_line(text)) from None
     except Exception as exc:   # anything else the TOML parser may raise on hostile text
         raise SiteInputError(f"valid TOML (the parser stopped: {type(exc).__name__})", file=file) from None
-    return parse_site(data, file=file, base_dir=base_dir, text=text)
+    return parse_site(data, file=file, base_dir=base_dir, text=text, files=files)
 
 
 def load_site(path: str | Path) -> SiteSpec:

@@ -26,14 +26,17 @@ from shared import BASE_SITE
 
 from app import callbacks as cb
 from app import figures, ids
+from app.bundled import SAMPLE_SITES
 from app.engine import ASSESSMENTS, assessment_for, load_records, site_dict
 from app.factory import create_app
 from app.tables import VERDICT_ORDER, verdict_rank
+from app.uploads import upload_store
 from siteharvest.assess import assess
 from siteharvest.site import load_site, parse_site
 from siteharvest.sources.solar import TECHNOLOGY_PRESETS
 
 ROOT = Path(__file__).resolve().parents[1]
+SESSION = "test-session-" + "a" * 20  # a page's token, as the page makes them
 
 FOUR_SOURCES = BASE_SITE.replace('name = "test spot"', 'name = "four-source check spot"').replace(
     "utc_offset_h = 1\n", "utc_offset_h = 1\nmounting_height_m = 2.5\n") + """
@@ -83,7 +86,7 @@ def edit(spots, key, path, role, value, *extra_msgs):
 
 def test_changing_the_tilt_gives_new_results(four):
     spots, key = four
-    before = cb.recompute(spots, key, {}, None)
+    before = cb.recompute(spots, key, None, None)
     new_spots, messages, rev = edit(spots, key, "source.0.tilt_deg", "float", "80")
     assert messages[0] == ""
     assert rev is no_update  # a plain value: the editor is not rebuilt
@@ -102,7 +105,7 @@ def test_changing_the_tilt_gives_new_results(four):
 
 def test_summary_table_lists_every_source_and_all_together(four):
     spots, key = four
-    status, table, cautions, notes, fig, options, value = cb.recompute(spots, key, {}, None)
+    status, table, cautions, notes, fig, options, value = cb.recompute(spots, key, None, None)
     assert "four-source check spot" in json.dumps(status.to_plotly_json(), default=str)
     assert "synthetic year" in json.dumps(notes[0].to_plotly_json(), default=str)  # Assessment.warnings
     assert [t.name for t in fig.data] == ["panel", "lamp-cell", "pipe", "pump", "node demand"]
@@ -212,24 +215,24 @@ def test_removing_the_last_source_is_refused(site_file):
 def test_malformed_weather_upload_gives_a_message_and_keeps_the_spot(four):
     spots, key = four
     bad = "time,ghi_w_m2\n2025-01-01 00:00,12\n2025-01-01 01:00,13\n"
-    new_spots, files, message, note, rev = cb.upload_weather(upload(bad, "text/csv"), "site-weather.csv", key, spots,
-                                                             {}, 0)
-    assert new_spots is no_update and files is no_update and rev is no_update and note is no_update
+    new_spots, message, note, rev = cb.upload_weather(upload(bad, "text/csv"), "site-weather.csv", key, spots,
+                                                      SESSION, 0)
+    assert new_spots is no_update and rev is no_update and note is no_update
     assert message.startswith("site-weather.csv") and "8760" in message
     binary = bytes(range(256)) * 4
-    _, _, message, _, _ = cb.upload_weather(upload(binary, "application/octet-stream"), "w.epw", key, spots, {}, 0)
+    _, message, _, _ = cb.upload_weather(upload(binary, "application/octet-stream"), "w.epw", key, spots, SESSION, 0)
     assert "text file" in message
 
 
 def test_weather_upload_is_used_and_parsed_from_the_store(four):
     spots, key = four
     text = (Path(pvlib.__file__).parent / "data" / "723170TYA.CSV").read_text(encoding="utf-8", errors="replace")
-    new_spots, files, message, note, rev = cb.upload_weather(upload(text, "text/csv"), "station.csv", key, spots, {}, 0)
+    new_spots, message, note, rev = cb.upload_weather(upload(text, "text/csv"), "station.csv", key, spots, SESSION, 0)
     assert message == "" and note.startswith("Weather from station.csv") and rev == 1
     record = new_spots[key]
     assert record["site"]["weather"] == {"file": "station.csv", "file_format": "auto"}
-    assert list(files.values()) == [text]
-    a = assessment_for(record, files)
+    assert upload_store().text(SESSION, record["files"]["station.csv"]) == text  # kept on the server
+    a = assessment_for(record, SESSION)
     assert "station.csv" in a.prepared.weather_meta.source
     # the spot goes back to a synthetic year and then to the uploaded file again
     synth, _, _ = edit(new_spots, key, "weather.source", "variant:weather", "synthetic")
@@ -249,16 +252,16 @@ def test_spectrum_upload(four):
     path = "source.3"
     ok = "frequency_hz,accel\n25,0.05\n50,0.9\n100,0.2\n"
     out = cb.upload_spectrum([upload(ok)], ["survey.csv"], [{"type": ids.SPECTRUM_MSG_TYPE, "path": path}], key,
-                             spots, {}, 0, trigger=({"type": ids.SPECTRUM_UPLOAD_TYPE, "path": path}, upload(ok)))
-    new_spots, files, messages, note, rev = out
+                             spots, SESSION, 0, trigger=({"type": ids.SPECTRUM_UPLOAD_TYPE, "path": path}, upload(ok)))
+    new_spots, messages, note, rev = out
     src = new_spots[key]["site"]["source"][3]
     assert src["spectrum_file"] == "survey.csv" and "preset" not in src and rev == 1
     assert messages == [""] and "m/s2" in note  # says what it assumed
-    assert assessment_for(new_spots[key], files).sources[3].annual_energy_wh >= 0
+    assert assessment_for(new_spots[key], SESSION).sources[3].annual_energy_wh >= 0
     bad = "frequency_hz,accel\n50,0.9\n25,0.05\n"
     out = cb.upload_spectrum([upload(bad)], ["bad.csv"], [{"type": ids.SPECTRUM_MSG_TYPE, "path": path}], key,
-                             spots, {}, 0, trigger=({"type": ids.SPECTRUM_UPLOAD_TYPE, "path": path}, upload(bad)))
-    assert out[0] is no_update and "increasing" in out[2][0] and out[2][0].startswith("bad.csv")
+                             spots, SESSION, 0, trigger=({"type": ids.SPECTRUM_UPLOAD_TYPE, "path": path}, upload(bad)))
+    assert out[0] is no_update and "increasing" in out[1][0] and out[1][0].startswith("bad.csv")
 
 
 def test_site_file_download_then_upload_round_trips(four):
@@ -283,14 +286,15 @@ def test_bad_site_file_upload(four):
 def test_a_spot_that_cannot_be_simulated_says_why(site_file):
     text = FOUR_SOURCES.replace("[weather.synthetic]", '[weather]\nfile = "weather/missing.epw"\n\n[weather.x]')
     text = text.replace("[weather.x]\nmonthly_clearness", "# monthly_clearness").replace("seed = 7", "")
-    spots, errors = load_records([site_file(text, "gone.toml")])
+    path = site_file(text, "gone.toml")
+    spots, errors = load_records([path])
     assert errors == []
     key = next(iter(spots))
-    status, table, cautions, notes, fig, options, value = cb.recompute(spots, key, {}, None)
+    status, table, cautions, notes, fig, options, value = cb.recompute(spots, key, None, None)
     assert cautions == [] and notes == []
     said = json.dumps(status.to_plotly_json(), default=str)
     assert "cannot be simulated" in said and "missing.epw" in said
-    assert str(Path(spots[key]["base_dir"])) not in said  # the file as the site file names it
+    assert str(path.parent) not in said  # the file as the site file names it, no server folder
     assert table == [] and options == [] and value is None
     assert fig.layout.annotations[0].text.startswith("no results")
     assert cb.portfolio(ids.TAB_PORTFOLIO, spots, {})[0]["verdict"].startswith("could not assess")
@@ -465,7 +469,8 @@ def test_sample_sites_load_and_assess():
     assert errors == []
     assert len(spots) >= 1
     for record in spots.values():
-        assert record["site"] == site_dict(load_site(Path(record["base_dir"]) / record["file"]))
+        assert record["site"] == site_dict(load_site(SAMPLE_SITES / record["file"]))
+        assert "base_dir" not in record and not any(str(ROOT) in str(v) for v in record.values())
     ASSESSMENTS.clear()
 
 

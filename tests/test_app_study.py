@@ -31,7 +31,8 @@ from shared import BASE_SITE
 from app import callbacks as cb
 from app import callbacks_study as cs
 from app import ids
-from app.engine import load_records, workspace
+from app.engine import load_records
+from app.uploads import upload_store
 from app.factory import create_app
 from siteharvest.assess import COMBINED_ID, assess
 from siteharvest.site import load_site, parse_site
@@ -275,17 +276,18 @@ def test_report_html_has_the_spot_and_its_uploaded_weather(study):
     spots, key, _ = study
     text = (Path(pvlib.__file__).parent / "data" / "723170TYA.CSV").read_text(encoding="utf-8", errors="replace")
     data = "data:text/csv;base64," + base64.b64encode(text.encode()).decode()
-    spots, files, msg, _, _ = cb.upload_weather(data, "station.csv", key, spots, {}, 0)
+    session = "report-session-" + "b" * 20
+    spots, msg, _, _ = cb.upload_weather(data, "station.csv", key, spots, session, 0)
     assert msg == ""
     site = copy.deepcopy(spots[key]["site"])
     site["spot"]["name"] = "edited study spot"  # the current values, not the file on disk
     spots = {key: {**spots[key], "site": site}}
-    download, message = cs.download_report(0, 2, key, spots, files, trigger=(ids.REPORT_HTML_BUTTON, 2))
+    download, message = cs.download_report(0, 2, key, spots, session, trigger=(ids.REPORT_HTML_BUTTON, 2))
     assert message == "" and download["filename"] == "study-report.html"
     html = decoded(download).decode("utf-8")
     assert "edited study spot" in html
     assert "station.csv" in html and hashlib.sha256(text.encode()).hexdigest() in html  # the upload, hashed
-    assert str(workspace()) not in html and "siteharvest-report-" not in html  # no server folders
+    assert str(upload_store().root) not in html and session not in html  # no server folders, no token
 
 
 def test_report_failure_gives_one_line_and_no_download(study, monkeypatch, tmp_path):

@@ -6,17 +6,15 @@ from __future__ import annotations
 
 import hashlib
 import math
-import os
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
 
 import numpy as np
-from pydantic import BaseModel
 
 from siteharvest.assess import COMBINED_ID, Assessment, CaseResult, assess
 from siteharvest.errors import SiteInputError
+from siteharvest.files import named_files
 from siteharvest.site import SiteSpec, dump_site, load_site
 from siteharvest.sizing import ReportInterval, SizingMap, WeatherRisk, report_interval, sizing_map, weather_risk
 from siteharvest.weather import pvlib_data_dir
@@ -100,28 +98,15 @@ def expand_inputs(paths_or_specs: SiteInput | Sequence[SiteInput]) -> tuple[list
     return out, portfolio, title
 
 
-def _files_in(model: Any, base_dir: Path, prefix: str = "") -> list[tuple[str, Path]]:
-    """Every file a spec names (fields called ``file`` or ``*_file``), resolved against the site's folder."""
-    found: list[tuple[str, Path]] = []
-    if isinstance(model, BaseModel):
-        for name in type(model).model_fields:
-            value = getattr(model, name)
-            path = f"{prefix}.{name}" if prefix else name
-            if isinstance(value, str) and (name == "file" or name.endswith("_file")):
-                p = Path(value)
-                found.append((path, p if p.is_absolute() else base_dir / p))
-            else:
-                found.extend(_files_in(value, base_dir, path))
-    elif isinstance(model, list | tuple):
-        for i, item in enumerate(model):
-            found.extend(_files_in(item, base_dir, f"{prefix}[{i}]"))
-    return found
-
-
 def input_files(spec: SiteSpec) -> list[tuple[str, str, Path]]:
     """(role, name as written, path) of every file the results depend on besides the site file."""
-    out = [(role, str(path.relative_to(spec.base_dir)) if path.is_relative_to(spec.base_dir) else str(path), path)
-           for role, path in _files_in(spec, spec.base_dir)]
+    out = []
+    for named in named_files(spec):
+        try:
+            path = spec.files.path_of(named.name, named.field)
+        except SiteInputError:
+            path = Path("/nonexistent") / named.name  # refused: listed as unreadable, never opened
+        out.append((named.field, named.name, path))
     if spec.weather.bundled:
         out.insert(0, ("weather.bundled", spec.weather.bundled, pvlib_data_dir() / spec.weather.bundled))
     return out
@@ -195,9 +180,7 @@ def study_spot_or_error(item: SiteInput, *, portfolio: bool, sizing: bool = True
         if isinstance(item, str | Path):
             return SpotStudy(label=Path(item).name, file=str(item), error=str(exc))
         # a spec: named by its site file where it has one; files in the error as the site file names them
-        error = str(exc)
-        for folder in {str(item.base_dir), str(Path(item.base_dir).resolve())}:
-            error = error.replace(folder.rstrip("/\\") + os.sep, "")
+        error = str(item.files.explained(exc))
         return SpotStudy(label=Path(item.file).name if item.file else item.spot.name, file=item.file, error=error)
 
 

@@ -613,7 +613,7 @@ def excitation_of(spec: VibrationSource, ctx: SpotContext) -> Excitation:
     """The spot's vibration components from the site file (peaks) or its survey CSV."""
     if spec.spectrum_file is not None:
         freq, accel = read_spectrum_csv(
-            ctx.resolve(spec.spectrum_file), spec.spectrum_kind, str(spec.spectrum_unit),
+            ctx.resolve(spec.spectrum_file, "spectrum_file"), spec.spectrum_kind, str(spec.spectrum_unit),
             spec.spectrum_measure, frequency_column=spec.frequency_column, value_column=spec.value_column,
         )
         return Excitation(freq, accel, np.full(freq.size, spec.frequency_drift_hz), bin_widths_hz(freq))
