@@ -458,6 +458,32 @@ def open_from_portfolio(selected: list[dict[str, Any]] | None) -> tuple[str, lis
 
 
 # --------------------------------------------------------------------------------------------------
+# the last line of defence
+
+
+def problem_line(exc: BaseException) -> str:
+    """What the page says when a request fails: the one-line input error, or that nothing was changed."""
+    if isinstance(exc, SiteInputError | EditProblem):
+        return _problem_text(exc)
+    return ("The server could not finish that request; nothing you entered was changed. "
+            f"(The server's log has the details: {type(exc).__name__}.)")
+
+
+def on_callback_error(exc: Exception) -> None:
+    """Dash's handler for an exception a callback did not catch: log it, and say so at the foot of the window
+    (the callback's own outputs keep their values)."""
+    if not isinstance(exc, SiteInputError | EditProblem):
+        log.exception("callback failed", exc_info=exc)
+    dash.set_props(ids.PROBLEM, {"children": problem_line(exc)})
+
+
+def dismiss_problem(n_clicks: int | None) -> str:
+    if not n_clicks:
+        raise PreventUpdate
+    return ""
+
+
+# --------------------------------------------------------------------------------------------------
 
 
 def register(app: dash.Dash) -> None:
@@ -529,6 +555,8 @@ def register(app: dash.Dash) -> None:
                             State(ids.SESSION, "data"))
 
     app.callback(Output(ids.SPOT_PICKER, "options"), Input(ids.SPOTS, "data"))(picker_options)
+    app.callback(Output(ids.PROBLEM, "children", allow_duplicate=True), Input(ids.PROBLEM_CLOSE, "n_clicks"),
+                 prevent_initial_call=True)(dismiss_problem)
 
     app.callback(
         Output(ids.STATUS, "children"), Output(ids.SUMMARY, "children"), Output(ids.CAUTIONS, "children"),

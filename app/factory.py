@@ -46,6 +46,7 @@ def create_app(paths: list[Path] | list[str] | None = None, *, password: str | N
         external_scripts=[],
         title="siteharvest",
         update_title=None,
+        on_error=callbacks.on_callback_error,
         meta_tags=[{"name": "viewport", "content": "width=device-width, initial-scale=1"},
                    {"name": "description", "content": "Year-round energy-harvesting check for sensor node spots"}],
     )

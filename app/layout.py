@@ -77,6 +77,11 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
             *report_buttons(),
         ]),
         html.Div(id=ids.SITE_UPLOAD_MSG, className="sh-msg sh-top-msg", role="alert"),
+        html.Div(className="sh-problem", children=[
+            html.Span(id=ids.PROBLEM, role="alert"),
+            html.Button("Dismiss", id=ids.PROBLEM_CLOSE, n_clicks=0, className="sh-button sh-problem-close",
+                        type="button"),
+        ]),
         report_message(),
     ])
     editor = html.Aside(className="sh-editor-pane", children=[

@@ -23,6 +23,8 @@ def format_value(value: Any, depth: int = 0) -> str:
     quotes, lists and tables shortened, huge integers by their number of digits."""
     if isinstance(value, str):
         text = one_line(value)
+        if not text:
+            return "an empty text"
         return text if len(text) >= 2 and text[0] == text[-1] and text[0] in "'\"" else f"'{text}'"
     if isinstance(value, bool):
         return "true" if value else "false"   # TOML's spelling

@@ -55,6 +55,15 @@ SPECTRUM_KINDS = ("amplitude", "psd")
 MEASURES = ("peak", "rms")
 DEFAULT_VALUE_COLUMN = {"amplitude": "accel", "psd": "psd"}
 
+#: Largest spectrum file read [bytes] and most data rows: a survey spectrum has some thousands of lines.
+MAX_SPECTRUM_BYTES = 20_000_000
+MAX_SPECTRUM_ROWS = 200_000
+#: Highest frequency line accepted [Hz]: surveys for harvesting stop well below ultrasound.
+MAX_FREQUENCY_HZ = 100_000.0
+#: Largest overall RMS acceleration accepted [g]: machinery a node is mounted on runs at a few g at
+#: most; above this the survey is shock, a sensor fault or the wrong unit, and is refused.
+MAX_RMS_G = 20.0
+
 
 def normalise_unit(unit: str) -> str:
     """A unit string in the spelling the tables above use: lower case, no spaces, no ``^``.
@@ -145,19 +154,37 @@ def psd_to_rms_m_s2(psd_m2_s4_hz: np.ndarray, bin_hz: np.ndarray) -> np.ndarray:
 def _rows(path: Path) -> list[tuple[int, list[str]]]:
     """Non-blank, non-comment rows of a CSV file with their 1-based line numbers."""
     try:
-        text = path.read_text(encoding="utf-8-sig")
+        size = path.stat().st_size
+        if size > MAX_SPECTRUM_BYTES:
+            raise SiteInputError(f"a spectrum file of at most {MAX_SPECTRUM_BYTES // 1_000_000} MB", file=str(path),
+                                 got=f"{size:,} bytes")
+        text = path.read_bytes().decode("utf-8-sig")
     except FileNotFoundError:
         raise SiteInputError("an existing spectrum CSV file", file=str(path)) from None
-    except (UnicodeDecodeError, IsADirectoryError, PermissionError) as exc:
+    except (UnicodeDecodeError, OSError) as exc:
         raise SiteInputError("a readable text CSV file", file=str(path), got=type(exc).__name__) from None
+    if "\x00" in text:
+        raise SiteInputError("a text CSV file", file=str(path), got="NUL bytes (a binary file?)")
     lines = [(i + 1, line) for i, line in enumerate(text.splitlines())
              if line.strip() and not line.lstrip().startswith("#")]
     if not lines:
         raise SiteInputError("a header row and data rows", file=str(path), got="an empty file")
+    if len(lines) > MAX_SPECTRUM_ROWS + 1:
+        raise SiteInputError(f"at most {MAX_SPECTRUM_ROWS:,} frequency lines", file=str(path),
+                             got=f"{len(lines) - 1:,} rows")
     header = lines[0][1]
     delimiter = next((d for d in (",", ";", "\t") if d in header), ",")
-    reader = csv.reader([line for _, line in lines], delimiter=delimiter)
-    return [(num, [cell.strip() for cell in row]) for (num, _), row in zip(lines, reader, strict=True)]
+    rows = []
+    for num, line in lines:   # one line at a time: a quote left open cannot swallow the rows after it
+        if line.count('"') % 2:
+            raise SiteInputError("quotes closed on the line they open", file=str(path), got=line[:40], line=num)
+        try:
+            cells = next(csv.reader([line], delimiter=delimiter), [])
+        except csv.Error:
+            raise SiteInputError("comma-, semicolon- or tab-separated cells", file=str(path), got=line[:40],
+                                 line=num) from None
+        rows.append((num, [cell.strip() for cell in cells]))
+    return rows
 
 
 def read_spectrum_csv(path: str | Path, kind: str, unit: str, measure: str | None, *,
@@ -210,7 +237,13 @@ def _read_spectrum_csv(path: str | Path, kind: str, unit: str, measure: str | No
     ------
     SiteInputError
         Naming the file and the column: missing columns, unknown unit or measure, non-numeric,
-        negative or non-finite values, frequencies <= 0, unsorted or repeated frequencies, too few rows.
+        negative or non-finite values, frequencies <= 0 or above 100 kHz, unsorted or repeated
+        frequencies, too few rows (or more than 200,000, or a file over 20 MB), a quote left open.
+
+    Plausibility: a spectrum whose overall RMS acceleration exceeds :data:`MAX_RMS_G` (20 g) is
+    refused, not warned about: the harvester model would promise power from shock or a unit mix-up.
+    The message says when the numbers would be plausible in another unit (g given for m/s2, m/s
+    given for mm/s).
     """
     path = Path(path)
     file = str(path)
@@ -260,17 +293,42 @@ def _read_spectrum_csv(path: str | Path, kind: str, unit: str, measure: str | No
         if freq[i] <= 0:
             raise SiteInputError("frequencies > 0 Hz (leave out the 0 Hz line)", file=file,
                                  field=frequency_column, got=freq[i], line=line)
+        if freq[i] > MAX_FREQUENCY_HZ:
+            raise SiteInputError(f"frequencies up to {MAX_FREQUENCY_HZ:g} Hz", file=file, field=frequency_column,
+                                 got=freq[i], line=line)
         if i and freq[i] <= freq[i - 1]:
             raise SiteInputError(f"frequencies increasing, each listed once (after {freq[i - 1]:g} Hz)",
                                  file=file, field=frequency_column, got=freq[i], line=line)
         if raw[i] < 0:
             raise SiteInputError("values >= 0", file=file, field=value_column, got=raw[i], line=line)
 
-    if kind == "psd":
-        accel_rms = psd_to_rms_m_s2(raw * factor, bin_widths_hz(freq))
-    else:
-        accel_rms = np.asarray(accel_to_rms_m_s2(raw, unit, str(measure), freq), dtype=float)
+    with np.errstate(over="ignore", invalid="ignore"):
+        if kind == "psd":
+            accel_rms = psd_to_rms_m_s2(raw * factor, bin_widths_hz(freq))
+        else:
+            accel_rms = np.asarray(accel_to_rms_m_s2(raw, unit, str(measure), freq), dtype=float)
+        overall_g = float(np.sqrt(np.sum(accel_rms**2))) / STANDARD_GRAVITY_M_S2
+    _check_plausible(accel_rms, overall_g, kind, unit, file, value_column, data)
     return freq, accel_rms
+
+
+def _check_plausible(accel_rms: np.ndarray, overall_g: float, kind: str, unit: str, file: str, column: str,
+                     data: list[tuple[int, list[str]]]) -> None:
+    """Refuse a spectrum whose overall RMS acceleration exceeds :data:`MAX_RMS_G`, saying when the
+    numbers would be plausible in another unit (g written for m/s2, m/s for mm/s)."""
+    if math.isfinite(overall_g) and overall_g <= MAX_RMS_G:
+        return
+    worst = int(np.nanargmax(np.where(np.isfinite(accel_rms), accel_rms, np.inf)))
+    norm = normalise_unit(unit)
+    hint = ""
+    if norm in ("g", "g2/hz") and overall_g / STANDARD_GRAVITY_M_S2 <= MAX_RMS_G:   # g scales RMS by g_n either way
+        hint = f"; the values look like {'m/s2' if kind == 'amplitude' else '(m/s2)2/Hz'}, not {unit}"
+    elif norm == "m/s" and overall_g / 1000.0 <= MAX_RMS_G:
+        hint = "; the values look like mm/s, not m/s"
+    shown = "more than 1e300" if not math.isfinite(overall_g) else f"{overall_g:.3g} g"
+    raise SiteInputError(f"an overall RMS acceleration of at most {MAX_RMS_G:g} g "
+                         f"({MAX_RMS_G * STANDARD_GRAVITY_M_S2:.0f} m/s2) in {unit}{hint}",
+                         file=file, field=column, got=shown, line=data[worst][0])
 
 
 def spectral_peaks(freq_hz: np.ndarray, accel_rms_m_s2: np.ndarray, *, max_peaks: int = 5,

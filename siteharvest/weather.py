@@ -189,9 +189,68 @@ class _Raw:
     notes: list[str] = field(default_factory=list)
 
 
-def _short(exc: BaseException) -> str:
-    text = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
-    return text[:120]
+#: Largest weather file read [bytes]: an hourly year with every column is about 2 MB.
+MAX_WEATHER_BYTES = 50_000_000
+
+#: Plausible place of a station (low, high, unit); a header value outside is refused.
+HEADER_RANGES: dict[str, tuple[float, float, str]] = {
+    "latitude_deg": (-90.0, 90.0, "deg"),
+    "longitude_deg": (-180.0, 180.0, "deg"),
+    "altitude_m": (-500.0, 9000.0, "m"),
+    "utc_offset_h": (-12.0, 14.0, "h"),
+}
+
+_PARSER_SHAPE = re.compile(r"Expected (\d+) fields in line (\d+), saw (\d+)")
+
+
+def _read_text(path: Path, name: str) -> str:
+    """The file as text (UTF-8, a leading byte-order mark dropped); refuses huge or binary files."""
+    try:
+        size = path.stat().st_size
+        if size > MAX_WEATHER_BYTES:
+            raise SiteInputError(f"a weather file of at most {MAX_WEATHER_BYTES // 1_000_000} MB", file=name,
+                                 got=f"{size:,} bytes")
+        text = path.read_bytes().decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise SiteInputError("a UTF-8 text file", file=name, got="undecodable bytes") from None
+    except OSError as exc:
+        raise SiteInputError("a readable weather file", file=name, got=type(exc).__name__) from None
+    if "\x00" in text:
+        raise SiteInputError("a text file", file=name, got="NUL bytes (a binary file?)")
+    return text
+
+
+def _table(body: str, name: str, what: str, first_line: int, header: bool = True) -> pd.DataFrame:
+    """A CSV body as text cells; a malformed table raises one line naming the file line."""
+    try:
+        return pd.read_csv(io.StringIO(body), header=0 if header else None, dtype=str, keep_default_na=False,
+                           skipinitialspace=True)
+    except pd.errors.EmptyDataError:
+        raise SiteInputError(what, file=name, got="no rows") from None
+    except pd.errors.ParserError as exc:
+        shape = _PARSER_SHAPE.search(str(exc))
+        if shape:
+            line = first_line + int(shape[2]) - 1   # the parser counts lines of the body from 1
+            raise SiteInputError(f"{shape[1]} comma-separated fields in every row (as in the first)", file=name,
+                                 got=f"{shape[3]} fields", line=line) from None
+        raise SiteInputError(f"{what} (quotes closed, fields separated by commas)", file=name) from None
+    except Exception as exc:   # the CSV parser on hostile bytes: still one line
+        raise SiteInputError(what, file=name, got=f"a table the CSV parser stopped on ({type(exc).__name__})") from None
+
+
+def _header_number(text: str | float, key: str, name: str, line: int, shown: str | None = None) -> float:
+    """A station or header value, refused unless a finite number inside :data:`HEADER_RANGES`;
+    ``shown`` is the key as the file writes it."""
+    low, high, unit = HEADER_RANGES[key]
+    try:
+        value = float(str(text).strip())
+    except ValueError:
+        raise SiteInputError(f"a number [{unit}]", file=name, field=shown or key, got=str(text).strip(),
+                             line=line) from None
+    if not math.isfinite(value) or not low <= value <= high:
+        raise SiteInputError(f"a finite number from {low:g} to {high:g} {unit}", file=name, field=shown or key,
+                             got=value, line=line)
+    return value
 
 
 # TMY3 (pvlib names after map_variables) -> (our name, column as written in the file, scale to SI)
@@ -235,12 +294,46 @@ def _take_columns(frame: pd.DataFrame, table: dict[str, tuple[str, str, float]])
             "all_columns": [str(c) for c in frame.columns]}
 
 
+# TMY3 station line: USAF, Name, State, TZ, latitude, longitude, altitude
+_TMY3_STATION = {"utc_offset_h": 3, "latitude_deg": 4, "longitude_deg": 5, "altitude_m": 6}
+# EPW LOCATION line: LOCATION, city, state, country, source, WMO, latitude, longitude, TZ, elevation
+_EPW_LOCATION = {"latitude_deg": 6, "longitude_deg": 7, "utc_offset_h": 8, "altitude_m": 9}
+# EPW data fields in order (the names pvlib gives them), from line 9
+_EPW_FIELDS = (
+    "year", "month", "day", "hour", "minute", "data_source_unct", "temp_air", "temp_dew", "relative_humidity",
+    "atmospheric_pressure", "etr", "etrn", "ghi_infrared", "ghi", "dni", "dhi", "global_hor_illum",
+    "direct_normal_illum", "diffuse_horizontal_illum", "zenith_luminance", "wind_direction", "wind_speed",
+    "total_sky_cover", "opaque_sky_cover", "visibility", "ceiling_height", "present_weather_observation",
+    "present_weather_codes", "precipitable_water", "aerosol_optical_depth", "snow_depth",
+    "days_since_last_snowfall", "albedo", "liquid_precipitation_depth", "liquid_precipitation_quantity",
+)
+_EPW_NEEDED = _EPW_FIELDS.index("wind_speed") + 1
+
+
+def _place_line(line: str, fields: dict[str, int], name: str, what: str, number: int) -> dict[str, float]:
+    """Place and UTC offset from a station line, each value checked."""
+    cells = line.split(",")
+    if len(cells) <= max(fields.values()):
+        raise SiteInputError(what, file=name, got=f"{len(cells)} comma-separated fields on line {number}",
+                             line=number)
+    return {key: _header_number(cells[i], key, name, number) for key, i in fields.items()}
+
+
+def _tmy3_frame(path: Path, name: str) -> tuple[pd.DataFrame, dict[str, float]]:
+    """A TMY3 file as text cells under pvlib's column names, and its station's place."""
+    what = "a TMY3 file: a station line, a column header line and hourly rows"
+    lines = _read_text(path, name).splitlines()
+    if len(lines) < 3:
+        raise SiteInputError(what, file=name, got=f"{len(lines)} lines")
+    place = _place_line(lines[0], _TMY3_STATION, name,
+                        "a TMY3 station line: USAF, name, state, TZ, latitude, longitude, altitude", 1)
+    frame = _table("\n".join(lines[1:]), name, what, first_line=2)
+    frame.columns = [str(c).strip() for c in frame.columns]
+    return frame.rename(columns=pvlib.iotools.tmy.VARIABLE_MAP), place
+
+
 def _read_tmy3(path: Path, name: str, **_: Any) -> _Raw:
-    try:
-        frame, meta = pvlib.iotools.read_tmy3(str(path), map_variables=True)
-    except Exception as exc:  # pvlib raises many kinds on malformed files
-        raise SiteInputError("a TMY3 file: a station line, a column header line and hourly rows",
-                             file=name, got=_short(exc)) from None
+    frame, meta = _tmy3_frame(path, name)
     if "Date (MM/DD/YYYY)" not in frame.columns or "Time (HH:MM)" not in frame.columns:
         raise SiteInputError("a TMY3 header line with 'Date (MM/DD/YYYY)' and 'Time (HH:MM)' columns",
                              file=name, field="Date (MM/DD/YYYY), Time (HH:MM)",
@@ -260,27 +353,39 @@ def _read_tmy3(path: Path, name: str, **_: Any) -> _Raw:
     start = pd.DatetimeIndex(day + pd.to_timedelta(hour_ending.to_numpy() - 1, unit="h"))
     return _Raw(
         **_take_columns(frame, _TMY3_COLUMNS), start=pd.DatetimeIndex(start), labels=labels,
-        lines=np.arange(len(frame)) + 3, time_field="Date (MM/DD/YYYY), Time (HH:MM)",
-        latitude_deg=float(meta["latitude"]), longitude_deg=float(meta["longitude"]),
-        altitude_m=float(meta["altitude"]), utc_offset_h=float(meta["TZ"]),
+        lines=np.arange(len(frame)) + 3, time_field="Date (MM/DD/YYYY), Time (HH:MM)", **meta,
     )
 
 
 def _read_epw(path: Path, name: str, **_: Any) -> _Raw:
-    try:
-        frame, meta = pvlib.iotools.read_epw(str(path))
-    except Exception as exc:
-        raise SiteInputError("an EPW file: eight header lines (LOCATION first) and hourly rows",
-                             file=name, got=_short(exc)) from None
-    # pvlib already labels each row by the start of its hour (EPW hour h covers h-1..h).
-    start = pd.DatetimeIndex(frame.index).tz_localize(None)
-    labels = np.array([f"{y}/{m:02d}/{d:02d} hour {h}" for y, m, d, h in
-                       zip(frame["year"], frame["month"], frame["day"], frame["hour"], strict=True)])
+    what = "an EPW file: eight header lines (LOCATION first) and hourly rows"
+    lines = _read_text(path, name).splitlines()
+    if len(lines) < 9:
+        raise SiteInputError(what, file=name, got=f"{len(lines)} lines")
+    meta = _place_line(lines[0], _EPW_LOCATION, name,
+                       "an EPW LOCATION line: LOCATION, city, state, country, source, WMO, latitude, longitude, "
+                       "time zone, elevation", 1)
+    frame = _table("\n".join(lines[8:]), name, what, first_line=9, header=False)
+    if frame.shape[1] < _EPW_NEEDED:
+        raise SiteInputError(f"EPW rows of {len(_EPW_FIELDS)} fields (at least {_EPW_NEEDED}, up to wind speed)",
+                             file=name, got=f"{frame.shape[1]} fields", line=9)
+    frame = frame.iloc[:, :len(_EPW_FIELDS)]
+    frame.columns = list(_EPW_FIELDS[:frame.shape[1]])
+    parts = {key: pd.to_numeric(frame[key].str.strip(), errors="coerce") for key in ("year", "month", "day", "hour")}
+    ymd = pd.to_datetime(pd.DataFrame({k: parts[k] for k in ("year", "month", "day")}), errors="coerce")
+    bad = np.asarray(ymd.isna() | parts["hour"].isna() | (parts["hour"] < 1) | (parts["hour"] > 24)
+                     | (parts["hour"] % 1 != 0) | (parts["year"] < 1000))
+    labels = np.array([f"{y}/{m}/{d} hour {h}" for y, m, d, h in
+                       zip(*(frame[k].str.strip() for k in ("year", "month", "day", "hour")), strict=True)])
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise SiteInputError("a year, month 1..12, day and hour 1..24 in every row", file=name,
+                             field="Year, Month, Day, Hour", got=str(labels[i]), line=i + 9)
+    # EPW hour h covers h-1..h: the row is labelled by the start of its hour.
+    start = pd.DatetimeIndex(ymd + pd.to_timedelta(parts["hour"].to_numpy() - 1, unit="h"))
     return _Raw(
         **_take_columns(frame, _EPW_COLUMNS), start=start, labels=labels, lines=np.arange(len(frame)) + 9,
-        time_field="Year, Month, Day, Hour",
-        latitude_deg=float(meta["latitude"]), longitude_deg=float(meta["longitude"]),
-        altitude_m=float(meta["altitude"]), utc_offset_h=float(meta["TZ"]),
+        time_field="Year, Month, Day, Hour", **meta,
     )
 
 
@@ -327,11 +432,7 @@ def _normalise(name: str) -> str:
 
 
 def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        raise SiteInputError("a UTF-8 text file", file=name, got="undecodable bytes") from None
-    lines = text.splitlines()
+    lines = _read_text(path, name).splitlines()
     header: dict[str, Any] = {}
     n_comment = 0
     for n_comment, line in enumerate(lines):
@@ -348,19 +449,11 @@ def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
                                          field="time_label", got=value, line=n_comment + 1)
                 header[ours] = value.lower()
                 continue
-            try:
-                header[ours] = float(value)
-            except ValueError:
-                raise SiteInputError("a number", file=name, field=key, got=value,
-                                     line=n_comment + 1) from None
+            header[ours] = _header_number(value, ours, name, n_comment + 1, shown=key)
     else:
         n_comment = len(lines)
     body = "\n".join(lines[n_comment:])
-    try:
-        frame = pd.read_csv(io.StringIO(body), skipinitialspace=True, dtype=str, keep_default_na=False)
-    except Exception as exc:
-        raise SiteInputError("a CSV table: a header line, then one row per hour", file=name,
-                             got=_short(exc)) from None
+    frame = _table(body, name, "a CSV table: a header line, then one row per hour", first_line=n_comment + 1)
     if frame.shape[1] < 2 or frame.empty:
         raise SiteInputError("a CSV table with a time column and a GHI column, one row per hour",
                              file=name, got=f"{frame.shape[1]} columns, {len(frame)} rows")
@@ -379,7 +472,8 @@ def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
                                  got=stamps_text.iloc[bad], line=first_line + bad)
         parsed = pd.to_datetime(stamps_text, utc=True, errors="coerce", format="ISO8601")
         if utc_offset_h is None:
-            utc_offset_h = _offset_hours(_HAS_OFFSET.search(stamps_text.iloc[0]).group(1))
+            utc_offset_h = _header_number(_offset_hours(_HAS_OFFSET.search(stamps_text.iloc[0]).group(1)),
+                                          "utc_offset_h", name, first_line)
         stamps = pd.DatetimeIndex(parsed).tz_convert(fixed_offset(float(utc_offset_h))).tz_localize(None)
     else:
         stamps = pd.DatetimeIndex(pd.to_datetime(stamps_text, errors="coerce", format="ISO8601"))
@@ -471,10 +565,48 @@ def _check_values(raw: _Raw, name: str) -> pd.DataFrame:
         bad = _out_of_range(numbers, column)
         if bad.any():
             i = int(np.argmax(bad))
-            raise SiteInputError(f"{low:g}..{high:g} {unit} (at {raw.labels[i]})", file=name, field=written,
-                                 got=float(numbers[i]), line=int(raw.lines[i]))
+            raise SiteInputError(f"{low:g}..{high:g} {unit} (at {raw.labels[i]}){_unit_hint(numbers, column)}",
+                                 file=name, field=written, got=float(numbers[i]), line=int(raw.lines[i]))
+        _check_magnitude(numbers, column, written, name, raw.notes)
         out[column] = numbers
     return pd.DataFrame(out)
+
+
+IRRADIANCE_COLUMNS = ("ghi_w_m2", "dni_w_m2", "dhi_w_m2")
+#: A year of irradiance in W/m2 peaks at several hundred; one whose largest value is below this is in kW/m2.
+KW_M2_PEAK_BELOW = 2.0
+#: A GHI year peaking below this [W/m2] is noted as doubtful (shaded sensor, wrong unit, indoor logger).
+DULL_GHI_PEAK_W_M2 = 200.0
+#: Hours above the physical bound that say "another unit" rather than "one bad value".
+MANY_HOURS = 24
+
+
+def _unit_hint(values: np.ndarray, column: str) -> str:
+    """Words for a range error when the whole column, not one cell, looks like another unit."""
+    high = VALUE_RANGES[column][1]
+    above = int(np.sum(values > high))
+    if column in IRRADIANCE_COLUMNS and above >= MANY_HOURS:
+        return (f"; {above} hours lie above {high:g} W/m2: is the column in another unit, such as kJ/m2 per "
+                "hour (3.6 x W/m2) or sums over more than an hour?")
+    if column == "temp_air_c" and 200.0 <= float(np.median(values)) <= 340.0:
+        return "; the values look like kelvin: subtract 273.15"
+    return ""
+
+
+def _check_magnitude(values: np.ndarray, column: str, written: str, name: str, notes: list[str]) -> None:
+    """Refuse irradiance plainly in kW/m2 (a year peaking below 2); note a GHI year peaking below 200 W/m2."""
+    if column not in IRRADIANCE_COLUMNS or values.size == 0:
+        return
+    peak = float(np.max(values))
+    if 0.0 < peak < KW_M2_PEAK_BELOW:
+        raise SiteInputError(f"irradiance in W/m2 (a year peaks at several hundred); a year whose largest value "
+                             f"is below {KW_M2_PEAK_BELOW:g} is in kW/m2: multiply by 1000", file=name, field=written,
+                             got=peak)
+    if peak == 0.0:
+        notes.append(f"{name}: {written} is zero in every hour: no sunlight at all, or a column left empty")
+    elif column == "ghi_w_m2" and peak < DULL_GHI_PEAK_W_M2:
+        notes.append(f"{name}: {written} peaks at only {peak:.0f} W/m2 in the whole year (open sky gives several "
+                     "hundred): check the unit and whether the sensor was shaded")
 
 
 _REF_START = reference_index(0).tz_localize(None)
@@ -550,10 +682,12 @@ def read_weather_file(
     Formats
     -------
     tmy3
-        Read with ``pvlib.iotools.read_tmy3`` (station line gives place and UTC offset; hour-ending
+        The layout ``pvlib.iotools.read_tmy3`` reads, under its column names (station line gives place
+        and UTC offset; hour-ending
         labels become hour-start; illuminance and pressure kept; pressure mbar -> Pa).
     epw
-        Read with ``pvlib.iotools.read_epw`` (LOCATION line gives place and UTC offset; EPW hour h
+        The layout ``pvlib.iotools.read_epw`` reads, under its field names (LOCATION line gives place
+        and UTC offset; EPW hour h
         covers h-1..h and becomes the hour starting at h-1). Illuminance or pressure fields holding
         missing-value codes are left out with a note.
     csv
@@ -595,7 +729,17 @@ def read_weather_file(
     SiteInputError
         Missing or unreadable file, missing column, too few rows, repeated or missing hours, a value
         that is not a number or lies outside its physical range (GHI 0..1500, DNI 0..1400,
-        DHI 0..1000 W/m2, air temperature -90..70 degC, wind 0..75 m/s).
+        DHI 0..1000 W/m2, air temperature -90..70 degC, wind 0..75 m/s), a file over 50 MB or not text,
+        a malformed table (the file line named).
+
+    Plausibility
+    ------------
+    Refused: a station or header value that is not finite or lies outside latitude -90..90, longitude
+    -180..180 deg, altitude -500..9000 m, UTC offset -12..14 h; an irradiance column whose year peaks
+    above 0 but below 2 (kW/m2 rather than W/m2); any hour above the physical bound (the message says
+    when many hours are, which points at another unit, or when air temperatures look like kelvin).
+    Noted in ``meta.notes`` (not refused, since the year may be real): a GHI year that peaks below
+    200 W/m2, or an irradiance column that is zero in every hour.
     """
     path = Path(path)
     name = str(name) if name is not None else str(path)
@@ -607,7 +751,7 @@ def read_weather_file(
     try:
         fmt = detect_format(path) if file_format == "auto" else file_format
     except OSError as exc:
-        raise SiteInputError("a readable weather file", file=name, got=_short(exc)) from None
+        raise SiteInputError("a readable weather file", file=name, got=type(exc).__name__) from None
     raw = _READERS[fmt](path, name, utc_offset_h=utc_offset_h, latitude_deg=latitude_deg,
                         longitude_deg=longitude_deg, altitude_m=altitude_m)
     if "ghi_w_m2" not in raw.data.columns:

@@ -39,6 +39,8 @@ module). Power is the matched-load power of the modules; see :func:`thermoelectr
 
 from __future__ import annotations
 
+import io
+import re
 from pathlib import Path
 from typing import Annotated, Any, ClassVar, Literal
 
@@ -543,6 +545,10 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
 # --------------------------------------------------------------------------------------------
 
 
+#: Largest hot-side file read [bytes]: a year of hourly temperatures is about 100 kB.
+MAX_HOT_SIDE_BYTES = 20_000_000
+
+
 def read_hot_side_csv(path: Path, column: str, field: str = "hot_side.file") -> np.ndarray:
     """Hourly hot-surface temperatures [degC] from a CSV file with a header row and 8760 rows.
 
@@ -554,15 +560,36 @@ def read_hot_side_csv(path: Path, column: str, field: str = "hot_side.file") -> 
     """
     name = str(path)
     try:
-        frame = pd.read_csv(path, comment="#", skipinitialspace=True)
+        size = Path(path).stat().st_size
+        if size > MAX_HOT_SIDE_BYTES:
+            raise SiteInputError(f"a CSV file of at most {MAX_HOT_SIDE_BYTES // 1_000_000} MB", file=name,
+                                 field=field, got=f"{size:,} bytes")
+        text = Path(path).read_bytes().decode("utf-8-sig")
     except FileNotFoundError:
         raise SiteInputError("an existing CSV file", file=name, field=field) from None
-    except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError, OSError) as exc:
+    except (UnicodeDecodeError, OSError) as exc:
+        raise SiteInputError("a readable UTF-8 text CSV file", file=name, field=field,
+                             got=type(exc).__name__) from None
+    if "\x00" in text:
+        raise SiteInputError("a text CSV file", file=name, field=field, got="NUL bytes (a binary file?)")
+    try:
+        frame = pd.read_csv(io.StringIO(text), comment="#", skipinitialspace=True, dtype=str)
+    except pd.errors.EmptyDataError:
+        raise SiteInputError("a CSV file with a header row", file=name, field=field, got="no rows") from None
+    except pd.errors.ParserError as exc:
+        shape = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", str(exc))
+        raise SiteInputError("a CSV file with a header row and as many cells in every row"
+                             + (f" ({shape[1]})" if shape else ", quotes closed"), file=name, field=field,
+                             got=f"{shape[3]} cells" if shape else None) from None
+    except Exception as exc:   # the CSV parser on hostile bytes: still one line
         raise SiteInputError("a CSV file with a header row", file=name, field=field,
-                             got=str(exc).splitlines()[0] if str(exc) else type(exc).__name__) from None
+                             got=f"a table the CSV parser stopped on ({type(exc).__name__})") from None
     frame.columns = [str(c).strip() for c in frame.columns]
     if column not in frame.columns:
         raise SiteInputError(f"a column named '{column}'", file=name, field=column,
+                             got=", ".join(frame.columns)) from None
+    if list(frame.columns).count(column) > 1:
+        raise SiteInputError(f"one column named '{column}'", file=name, field=column,
                              got=", ".join(frame.columns)) from None
     if len(frame) != HOURS_PER_YEAR:
         raise SiteInputError(f"{HOURS_PER_YEAR} hourly rows", file=name, field=column, got=len(frame))
