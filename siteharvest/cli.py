@@ -123,11 +123,47 @@ def format_sizing(maps, interval, risk) -> str:
     return "\n".join(lines).rstrip()
 
 
+def _size_option(text: object, flag: str, bounds: tuple[float, float], *, integer: bool) -> int | float:
+    """A ``size`` option's value, parsed and bounded; one :class:`SiteInputError` line naming ``flag``."""
+    from .sizing import check_option
+
+    value: object = text
+    if isinstance(text, str):
+        try:
+            value = int(text) if integer else float(text)
+        except ValueError:   # not a number at all, or an integer past Python's digit limit
+            kind = "a whole number" if integer else "a finite number"
+            span = f"{int(bounds[0])} to {int(bounds[1])}" if integer else f"{bounds[0]:g} to {bounds[1]:g}"
+            raise SiteInputError(f"{kind} from {span}", field=flag,
+                                 got=text if len(text) <= 40 else f"{len(text)} characters") from None
+    return check_option(value, flag, bounds, integer=integer)
+
+
 def cmd_size(args: argparse.Namespace) -> int:
     from .assess import COMBINED_ID, prepare
     from .site import load_site
-    from .sizing import report_interval, sizing_map, weather_risk
+    from .sizing import (
+        DEFICIT_DAYS_RANGE,
+        OUTAGE_DAYS_RANGE,
+        OUTAGES_PER_YEAR_RANGE,
+        RISK_YEARS_RANGE,
+        SEED_RANGE,
+        STEPS_RANGE,
+        report_interval,
+        sizing_map,
+        weather_risk,
+    )
 
+    # every option checked before the site is read or anything is allocated
+    args.steps = _size_option(args.steps, "--steps", STEPS_RANGE, integer=True)
+    args.years = _size_option(args.years, "--years", (0, RISK_YEARS_RANGE[1]), integer=True)
+    args.seed = _size_option(args.seed, "--seed", SEED_RANGE, integer=True)
+    args.outages_per_year = _size_option(args.outages_per_year, "--outages-per-year", OUTAGES_PER_YEAR_RANGE,
+                                         integer=False)
+    args.outage_days = _size_option(args.outage_days, "--outage-days", OUTAGE_DAYS_RANGE, integer=False)
+    if args.max_deficit_days is not None:
+        args.max_deficit_days = _size_option(args.max_deficit_days, "--max-deficit-days", DEFICIT_DAYS_RANGE,
+                                             integer=True)
     spec = load_site(args.site)
     ids = [s.id for s in spec.source]
     if args.source and args.source not in ids:
@@ -212,14 +248,18 @@ def build_parser() -> argparse.ArgumentParser:
                        "report, and how sure that is over many weather years")
     p.add_argument("site", help="site file (.toml)")
     p.add_argument("--source", metavar="ID", help="only this source (default: each)")
-    p.add_argument("--max-deficit-days", type=int, default=None, metavar="N",
-                   help="target: at most N deficit days a year (default: the site's run.target_deficit_days)")
-    p.add_argument("--steps", type=int, default=40, help="sizes tried along each axis (default 40)")
-    p.add_argument("--years", type=int, default=500, help="resampled weather years (0 to skip; default 500)")
-    p.add_argument("--seed", type=int, default=1, help="seed of the resampling (default 1)")
-    p.add_argument("--outages-per-year", type=float, default=0.0,
-                   help="unplanned process/machine outages per year for heat and vibration sources")
-    p.add_argument("--outage-days", type=float, default=3.0, help="mean length of an outage [days]")
+    # Options are read as text and bounded in cmd_size, so a bad value gets one line (not usage + error).
+    p.add_argument("--max-deficit-days", default=None, metavar="N",
+                   help="target: at most N deficit days a year, 0..365 (default: the site's run.target_deficit_days)")
+    p.add_argument("--steps", default=40, metavar="N", help="sizes tried along each axis, 2..200 (default 40)")
+    p.add_argument("--years", default=500, metavar="N",
+                   help="resampled weather years, 0..5000 (0 to skip; default 500)")
+    p.add_argument("--seed", default=1, metavar="N", help="seed of the resampling, 0..4294967295 (default 1)")
+    p.add_argument("--outages-per-year", default=0.0, metavar="RATE",
+                   help="unplanned process/machine outages per year for heat and vibration sources, 0..52 "
+                   "(default 0)")
+    p.add_argument("--outage-days", default=3.0, metavar="DAYS",
+                   help="mean length of an outage [days], 0..90 (default 3)")
     p.add_argument("--json", action="store_true", help="print the results as JSON")
     p.set_defaults(func=cmd_size)
     p = sub.add_parser("report", help="write a feasibility report (PDF or HTML) for a spot, or for a folder of "

@@ -24,6 +24,8 @@ resampling of dependent data, ch. 8).
 
 from __future__ import annotations
 
+import math
+import numbers
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -33,6 +35,7 @@ from pydantic import BaseModel
 from .assess import COMBINED_ID, Harvest, Prepared, combine
 from .conditioning import condition
 from .demand import demand_energy_j
+from .errors import SiteInputError
 from .fields import bounds_of
 from .kernel import StoreArrays, simulate
 from .metrics import first_wake_hours
@@ -50,6 +53,57 @@ SMALLER_IS_MORE = {("rf", "distance_m")}
 FIRST_WAKE_HORIZON_H = 90 * 24
 # Years per kernel call in weather_risk: bounds memory to the hourly arrays of this many years.
 RISK_CHUNK_YEARS = 100
+
+# Bounds of the study options, shared by the command line and the dashboard: (low, high), inclusive.
+STEPS_RANGE = (2, 200)                 # sizes along each axis of a sizing map
+RISK_YEARS_RANGE = (1, 5000)           # resampled weather years (the command line's 0 skips the study)
+SEED_RANGE = (0, 2**32 - 1)
+OUTAGES_PER_YEAR_RANGE = (0.0, 52.0)   # unplanned outages a year: at most one a week
+OUTAGE_DAYS_RANGE = (0.0, 90.0)        # mean outage length [days]; 0 means none
+DEFICIT_DAYS_RANGE = (0, 365)          # target deficit days a year
+#: Most memory a study may plan to use [bytes]; a larger one is refused before anything is allocated.
+MEMORY_BUDGET_BYTES = 2_000_000_000
+
+
+def check_option(value: Any, name: str, bounds: tuple[float, float], *, integer: bool) -> int | float:
+    """``value`` as an int (``integer``) or a finite float within ``bounds`` (inclusive); raises
+    :class:`SiteInputError` naming the option ``name`` and its bounds otherwise."""
+    low, high = bounds
+    kind = "a whole number" if integer else "a finite number"
+    expected = f"{kind} from {int(low)} to {int(high)}" if integer else f"{kind} from {low:g} to {high:g}"
+    ok_type = isinstance(value, numbers.Integral if integer else numbers.Real) and not isinstance(value, bool)
+    if not ok_type:
+        raise SiteInputError(expected, field=name, got=value)
+    number = int(value) if integer else float(value)
+    if (not integer and not math.isfinite(number)) or not low <= number <= high:
+        raise SiteInputError(expected, field=name, got=number)
+    return number
+
+
+def sizing_memory_bytes(n_harvester: int, n_store: int) -> int:
+    """Memory a sizing map plans to use [bytes]: hourly series per harvester size (power, voltage,
+    conditioned parts, their first-wake slices) and per configuration the day flags, the first-wake
+    records and the store levels. The drawn size may add one to each axis."""
+    n_h, n_s = n_harvester + 1, n_store + 1
+    per_size = HOURS_PER_YEAR * 8 * 12
+    per_config = 365 + 2 * FIRST_WAKE_HORIZON_H + 40 * 8
+    return n_h * per_size + n_h * n_s * per_config
+
+
+def weather_risk_memory_bytes(years: int, n_sources: int) -> int:
+    """Memory a weather-risk study plans to use [bytes]: the day map and outage flags of every year,
+    and per chunk of :data:`RISK_CHUNK_YEARS` years the hour indices, charge flags and each case's
+    running and cold-start series (with their outage-masked and per-hour energy copies)."""
+    chunk = max(1, min(years, RISK_CHUNK_YEARS))
+    per_year = 365 * 8 + HOURS_PER_YEAR
+    per_chunk_year = HOURS_PER_YEAR * (8 + 1 + 8 * 2 * 3 * (n_sources + 1))
+    return years * per_year + chunk * per_chunk_year
+
+
+def _within_budget(needed: int, what: str, field: str) -> None:
+    if needed > MEMORY_BUDGET_BYTES:
+        raise SiteInputError(f"a {what} within the {MEMORY_BUDGET_BYTES / 1e9:g} GB memory budget", field=field,
+                             got=f"{needed / 1e9:.1f} GB planned")
 
 
 @dataclass
@@ -122,11 +176,18 @@ def frontier_and_pick(meets: np.ndarray) -> tuple[list[tuple[int, int]], tuple[i
     """Pareto-smallest passing cells of a boolean map (rows: harvester, columns: store, both in
     increasing size), and the pick: the smallest harvester that passes, then its smallest store.
     No monotonicity is assumed."""
-    cells = [tuple(map(int, c)) for c in np.argwhere(meets)]
-    frontier = [(i, j) for i, j in cells
-                if not any(a <= i and b <= j and (a, b) != (i, j) for a, b in cells)]
-    pick = min(cells) if cells else None
-    return sorted(frontier), pick
+    meets = np.asarray(meets, dtype=bool)
+    frontier: list[tuple[int, int]] = []
+    best_before = meets.shape[1] if meets.ndim == 2 else 0   # smallest passing store in the rows above
+    for i, row in enumerate(meets):
+        passing = np.flatnonzero(row)
+        if passing.size == 0:
+            continue
+        j = int(passing[0])   # in its row only the smallest passing store can be on the frontier
+        if j < best_before:   # no smaller harvester passes with this store or a smaller one
+            frontier.append((i, j))
+            best_before = j
+    return frontier, frontier[0] if frontier else None
 
 
 def _grid(drawn: float, low: float | None, high: float | None, n: int, integer: bool,
@@ -201,6 +262,11 @@ def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store
     ids = [s.id for s in prep.spec.source]
     if source_id not in ids:
         raise KeyError(source_id)
+    n_harvester = int(check_option(n_harvester, "n_harvester", STEPS_RANGE, integer=True))
+    n_store = int(check_option(n_store, "n_store", STEPS_RANGE, integer=True))
+    if max_deficit_days is not None:
+        max_deficit_days = int(check_option(max_deficit_days, "max_deficit_days", DEFICIT_DAYS_RANGE, integer=True))
+    _within_budget(sizing_memory_bytes(n_harvester, n_store), "sizing map", "n_harvester, n_store")
     index = ids.index(source_id)
     spec = prep.spec.source[index]
     target = prep.spec.run.target_deficit_days if max_deficit_days is None else max_deficit_days
@@ -265,6 +331,10 @@ def report_interval(prep: Prepared, source_id: str | None = None, *, max_deficit
     """Bisection on the most frequent task's period (log scale) for the shortest that meets the
     target with the drawn harvester and store. ``None`` when the node has no task."""
     node = prep.spec.node
+    if max_deficit_days is not None:
+        max_deficit_days = int(check_option(max_deficit_days, "max_deficit_days", DEFICIT_DAYS_RANGE, integer=True))
+    check_option(longest_s, "longest_s", (1.0, 366 * 86400.0), integer=False)
+    check_option(tolerance, "tolerance", (1e-6, 1.0), integer=False)
     if not node.task:
         return None
     target = prep.spec.run.target_deficit_days if max_deficit_days is None else max_deficit_days
@@ -403,6 +473,12 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
     :data:`RISK_CHUNK_YEARS` years, which bounds memory (hourly arrays of a chunk, not of every year)
     without changing a result: the years are independent and drawn up front.
     """
+    years = int(check_option(years, "years", RISK_YEARS_RANGE, integer=True))
+    seed = int(check_option(seed, "seed", SEED_RANGE, integer=True))
+    outage_rate_per_year = check_option(outage_rate_per_year, "outage_rate_per_year", OUTAGES_PER_YEAR_RANGE,
+                                        integer=False)
+    outage_mean_days = check_option(outage_mean_days, "outage_mean_days", OUTAGE_DAYS_RANGE, integer=False)
+    _within_budget(weather_risk_memory_bytes(years, len(prep.harvests)), "weather-risk study", "years")
     sig = day_signatures(prep)
     day_map = resampled_days(sig, years, seed)
     rng = np.random.default_rng(seed + 1)
