@@ -56,3 +56,34 @@ def post_json(port: int, path: str, payload: Any, headers: dict[str, str] | None
         return status, json.loads(body)
     except ValueError:
         return status, body.decode("utf-8", "replace")
+
+
+def layout_values(layout: Any) -> dict[str, dict[str, Any]]:
+    """{component id: its props} for every component with a plain string id in a ``/_dash-layout`` tree."""
+    found: dict[str, dict[str, Any]] = {}
+    stack = [layout]
+    while stack:
+        node = stack.pop()
+        if isinstance(node, list):
+            stack.extend(node)
+        elif isinstance(node, dict):
+            props = node.get("props")
+            if isinstance(props, dict):
+                if isinstance(props.get("id"), str):
+                    found[props["id"]] = props
+                stack.extend(v for v in props.values() if isinstance(v, list | dict))
+    return found
+
+
+def callback_body(dep: dict[str, Any], values: dict[str, Any], changed: str) -> dict[str, Any]:
+    """The body the page posts to ``/_dash-update-component`` for the callback ``dep`` (from
+    ``/_dash-dependencies``), with ``values`` as ``{"id.property": value}`` for its inputs and states."""
+    outputs = [dict(zip(("id", "property"), o.split("@")[0].rsplit(".", 1), strict=True))
+               for o in dep["output"].strip(".").split("...")]
+
+    def fill(items: list[dict[str, Any]]) -> list[dict[str, Any]]:
+        return [{"id": i["id"], "property": i["property"], "value": values.get(f"{i['id']}.{i['property']}")}
+                for i in items]
+
+    return {"output": dep["output"], "outputs": outputs if len(outputs) > 1 else outputs[0],
+            "inputs": fill(dep["inputs"]), "state": fill(dep["state"]), "changedPropIds": [changed]}

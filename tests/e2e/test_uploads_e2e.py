@@ -1,0 +1,64 @@
+"""Uploads and file names in headless Chromium, as a user and as a hostile user would try them.
+
+A site file naming the server's files is opened from the page: the page says it cannot read them, and
+nothing of the file, nor any folder of the server, reaches the browser. A site opened together with its
+weather file is assessed on that file. Every reply the page receives is read for server paths.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pvlib
+import pytest
+from playwright.sync_api import Page, expect
+
+from app.bundled import SAMPLE_SITES
+from app.uploads import upload_store
+
+pytestmark = pytest.mark.e2e
+
+ROOT = Path(__file__).resolve().parents[2]
+ROOF = (SAMPLE_SITES / "roof-parapet.toml").read_text(encoding="utf-8")
+
+
+def with_weather_file(name: str) -> str:
+    head, tail = ROOF.split("[weather]", 1)
+    return head + f'[weather]\nfile = "{name}"\n\n[node]' + tail.split("[node]", 1)[1]
+
+
+def test_site_naming_server_files_is_refused_and_nothing_leaks(watched_page: Page, artifacts: Path):
+    page = watched_page
+    replies: list[str] = []
+    page.on("response", lambda r: replies.append(r.text()) if "_dash-" in r.url and r.ok else None)
+    targets = ("/etc/passwd", "../../../../../../../../etc/hostname", str(ROOT / "pyproject.toml"))
+    for target in targets:
+        page.locator("#sh-site-upload input[type=file]").set_input_files(files=[{
+            "name": "attack.toml", "mimeType": "application/toml",
+            "buffer": with_weather_file(target).encode("utf-8")}])
+        expect(page.locator("#sh-site-upload-msg")).to_contain_text("Opened attack.toml")
+        expect(page.locator("#sh-site-upload-msg")).to_contain_text("open it together with the site file")
+        status = page.locator(".sh-status")
+        expect(status).to_contain_text("files on the server are not read")
+        expect(status).not_to_contain_text("root:")
+    page.screenshot(path=str(artifacts / "upload-attack-refused.png"))
+    page.wait_for_timeout(300)
+    assert replies, "the page's replies were read"
+    text = "\n".join(replies).replace("\\/", "/")
+    for target in targets:  # the names the user typed come back in the message, as typed
+        text = text.replace(target, "NAME")
+    for secret in ("root:x:", "[build-system]", str(ROOT) + "/", str(upload_store().root), str(SAMPLE_SITES)):
+        assert secret not in text
+
+
+def test_site_opened_with_its_weather_file_uses_it(watched_page: Page):
+    page = watched_page
+    tmy = (Path(pvlib.__file__).parent / "data" / "723170TYA.CSV").read_bytes()
+    page.locator("#sh-site-upload input[type=file]").set_input_files(files=[
+        {"name": "roof-copy.toml", "mimeType": "application/toml",
+         "buffer": with_weather_file("weather/station-year.csv").encode("utf-8")},
+        {"name": "station-year.csv", "mimeType": "text/csv", "buffer": tmy}])
+    expect(page.locator("#sh-site-upload-msg")).to_contain_text("Opened roof-copy.toml")
+    expect(page.locator("#sh-site-upload-msg")).not_to_contain_text("open it together")
+    expect(page.locator(".sh-status-ok")).to_contain_text("station-year.csv")
+    expect(page.locator(".sh-table")).to_be_visible()
