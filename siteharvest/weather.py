@@ -41,6 +41,7 @@ from pydantic import Field, field_validator, model_validator
 
 from .errors import SiteInputError
 from .fields import Section, quantity
+from .files import FolderFiles, SiteFiles
 from .synthetic_weather import (
     DEFAULT_AIR_TEMP_C,
     DEFAULT_MONTHLY_CLEARNESS,
@@ -864,15 +865,14 @@ def bundled_weather_files() -> list[str]:
                   if p.suffix.lower() in (".csv", ".epw") and detect_format(p) in ("tmy3", "epw"))
 
 
-def _load_file(spec: WeatherSpec, place: _Place, base_dir: Path) -> tuple[pd.DataFrame, WeatherMeta]:
-    path = Path(spec.file or "")
-    path = path if path.is_absolute() else Path(base_dir) / path
+def _load_file(spec: WeatherSpec, place: _Place, files: SiteFiles) -> tuple[pd.DataFrame, WeatherMeta]:
+    path = files.path_of(spec.file or "", "weather.file")
     return read_weather_file(path, spec.file_format, name=spec.file, utc_offset_h=place.utc_offset_h,
                              latitude_deg=place.latitude_deg, longitude_deg=place.longitude_deg,
                              altitude_m=place.altitude_m)
 
 
-def _load_bundled(spec: WeatherSpec, place: _Place, base_dir: Path) -> tuple[pd.DataFrame, WeatherMeta]:
+def _load_bundled(spec: WeatherSpec, place: _Place, files: SiteFiles) -> tuple[pd.DataFrame, WeatherMeta]:
     name = spec.bundled or ""
     path = pvlib_data_dir() / name
     if not path.is_file() or name not in bundled_weather_files():
@@ -883,7 +883,7 @@ def _load_bundled(spec: WeatherSpec, place: _Place, base_dir: Path) -> tuple[pd.
     return frame, meta
 
 
-def _load_synthetic(spec: WeatherSpec, place: _Place, base_dir: Path) -> tuple[pd.DataFrame, WeatherMeta]:
+def _load_synthetic(spec: WeatherSpec, place: _Place, files: SiteFiles) -> tuple[pd.DataFrame, WeatherMeta]:
     synth = spec.synthetic or SyntheticWeatherSpec()
     frame = synthetic_year(synth, latitude_deg=place.latitude_deg, longitude_deg=place.longitude_deg,
                            altitude_m=place.altitude_m, utc_offset_h=place.utc_offset_h)
@@ -900,7 +900,7 @@ def _load_synthetic(spec: WeatherSpec, place: _Place, base_dir: Path) -> tuple[p
     return frame, meta
 
 
-_SOURCE_LOADERS: dict[str, Callable[[WeatherSpec, _Place, Path], tuple[pd.DataFrame, WeatherMeta]]] = {
+_SOURCE_LOADERS: dict[str, Callable[[WeatherSpec, _Place, SiteFiles], tuple[pd.DataFrame, WeatherMeta]]] = {
     "file": _load_file,
     "bundled": _load_bundled,
     "synthetic": _load_synthetic,
@@ -922,7 +922,8 @@ def load_weather_year(
     longitude_deg: float,
     altitude_m: float,
     utc_offset_h: float,
-    base_dir: Path,
+    base_dir: Path | None = None,
+    files: SiteFiles | None = None,
 ) -> tuple[pd.DataFrame, WeatherMeta]:
     """The spot's weather year from its ``[weather]`` table.
 
@@ -940,8 +941,10 @@ def load_weather_year(
         The spot's altitude [m].
     utc_offset_h : float
         The spot's local standard time offset from UTC [h].
-    base_dir : Path
-        Folder of the site file; ``spec.file`` is relative to it.
+    base_dir : Path, optional
+        Folder of the site file; ``spec.file`` is relative to it when ``files`` is not given.
+    files : SiteFiles, optional
+        Where the files the site names are read from (see :mod:`siteharvest.files`).
 
     Returns
     -------
@@ -949,7 +952,8 @@ def load_weather_year(
         See :func:`read_weather_file`.
     """
     place = _Place(float(latitude_deg), float(longitude_deg), float(altitude_m), float(utc_offset_h))
-    frame, meta = _SOURCE_LOADERS[spec.source_kind](spec, place, Path(base_dir))
+    files = files if files is not None else FolderFiles(Path(base_dir) if base_dir is not None else Path.cwd())
+    frame, meta = _SOURCE_LOADERS[spec.source_kind](spec, place, files)
     if not math.isclose(meta.utc_offset_h, place.utc_offset_h):
         meta.notes.append(f"the weather file keeps its own local standard time "
                           f"(UTC{meta.utc_offset_h:+g} h); the spot's is UTC{place.utc_offset_h:+g} h")

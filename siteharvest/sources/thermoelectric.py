@@ -635,7 +635,7 @@ def hot_side_temperature_c(hot_side: ConstantHotSide | ScheduledHotSide | FileHo
         return np.where(hot_side.process.mask(), float(hot_side.process_on_c), off)
     if ctx is None:
         raise ValueError("a SpotContext is needed to read a hot-side file")
-    return read_hot_side_csv(ctx.resolve(hot_side.file), hot_side.column)
+    return read_hot_side_csv(ctx.resolve(hot_side.file, "hot_side.file"), hot_side.column)
 
 
 # --------------------------------------------------------------------------------------------
