@@ -102,6 +102,8 @@ _TOML_LINE = re.compile(r"line (\d+)")
 MAX_SITE_CHARS = 1_000_000
 #: Deepest nesting of arrays and tables accepted (a real site file nests about 6 deep).
 MAX_SITE_DEPTH = 32
+#: Longest integer accepted anywhere [digits]: no field wants more than about 20.
+MAX_INT_DIGITS = 300
 _LONG_NUMBER = re.compile(r"[0-9_]{1000,}")
 
 
@@ -117,6 +119,21 @@ def _depth(data: Any) -> int:
                 return level
             stack.extend((child, level + 1) for child in (node.values() if isinstance(node, dict) else node))
     return deepest
+
+
+def _huge_integer_at(data: Any) -> str | None:
+    """Field path of the first integer longer than :data:`MAX_INT_DIGITS` digits, or None (no field wants
+    one, and some checks would print it through Python's digit limit)."""
+    stack: list[tuple[Any, str]] = [(data, "")]
+    while stack:
+        node, path = stack.pop()
+        if isinstance(node, dict):
+            stack.extend((child, f"{path}.{key}" if path else str(key)) for key, child in node.items())
+        elif isinstance(node, list | tuple):
+            stack.extend((child, f"{path}[{i}]") for i, child in enumerate(node))
+        elif isinstance(node, int) and not isinstance(node, bool) and node.bit_length() > MAX_INT_DIGITS * 3.33:
+            return path or "(top level)"
+    return None
 
 
 def _long_number_line(text: str) -> int | None:
@@ -226,6 +243,10 @@ def parse_site(data: dict[str, Any], *, file: str = "<site>", base_dir: Path | N
     if depth > MAX_SITE_DEPTH:
         raise SiteInputError(f"arrays and tables nested at most {MAX_SITE_DEPTH} deep", file=file,
                              got=f"{depth} deep")
+    huge = _huge_integer_at(data)
+    if huge is not None:
+        raise SiteInputError(f"a number of at most {MAX_INT_DIGITS} digits", file=file, field=huge,
+                             got="a longer integer", line=_line_of(text, huge))
     try:
         spec = SiteSpec.model_validate(data)
     except ValidationError as exc:

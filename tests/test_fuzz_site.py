@@ -241,3 +241,10 @@ def test_got_is_formatted_for_people(value, shown):
     assert format_value(value) == shown
     text = str(SiteInputError("something", file="f.toml", field="x", got=value))
     assert text == f"f.toml: x: expected something, got {shown}"
+
+
+def test_huge_integer_as_a_union_tag_is_one_line_naming_the_field(capsys):
+    # a 5000-digit union tag made the validator print 'Exception ignored' through Python's digit limit
+    err = _error(_set(SAMPLE_DATA[ROOF], ("store", "kind"), 10**5000), ROOF)
+    assert err.field == "store.kind" and "at most 300 digits" in err.expected
+    assert "Exception ignored" not in capsys.readouterr().err
