@@ -39,12 +39,12 @@ from .engine import (
 from .fieldspec import EditProblem, apply_action, apply_edit, apply_spectrum, display_value, value_at
 from .figures import case_calendar_figure, case_week_figure, case_year_figure, empty_figure, find_case, sources_figure
 from .layout import spot_options
+from .limits import MAX_UPLOAD_BYTES
 from .tables import SUMMARY_COLUMNS, summary_rows
 from .uploads import upload_store
 
 log = logging.getLogger(__name__)
 Trigger = tuple[Any, Any]
-MAX_UPLOAD_BYTES = 20_000_000
 
 
 def _trigger() -> Trigger:

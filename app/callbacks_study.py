@@ -25,6 +25,7 @@ from siteharvest.errors import SiteInputError
 from siteharvest.site import SiteSpec
 from siteharvest.sizing import (
     OUTAGE_KINDS,
+    SEED_RANGE,
     ReportInterval,
     SizingMap,
     WeatherRisk,
@@ -318,9 +319,9 @@ def risk_view(tab: str | None, case_id: str | None, years: Any, seed: Any, rate:
     n_years = _whole(years, RISK_YEARS_MIN, RISK_YEARS_MAX)
     if n_years is None:
         problems.append(f"years: a whole number from {RISK_YEARS_MIN} to {RISK_YEARS_MAX}")
-    n_seed = _whole(seed, 0, None)
+    n_seed = _whole(seed, *SEED_RANGE)
     if n_seed is None:
-        problems.append("seed: a whole number, 0 or more")
+        problems.append(f"seed: a whole number from {SEED_RANGE[0]} to {SEED_RANGE[1]}")
     n_rate = _number(rate, 0.0, OUTAGE_RATE_MAX)
     if n_rate is None:
         problems.append(f"outages: from 0 to {OUTAGE_RATE_MAX:g} a year")

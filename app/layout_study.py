@@ -6,6 +6,8 @@ from typing import Any
 
 from dash import dcc, html
 
+from siteharvest.sizing import SEED_RANGE
+
 from . import ids
 from .figures import empty_figure
 
@@ -106,7 +108,7 @@ def risk_tab() -> dcc.Tab:
             html.Span("Resampling", className="sh-row-title"),
             _number(ids.RISK_YEARS, "Years", "count", RISK_YEARS_DEFAULT, low=RISK_YEARS_MIN, high=RISK_YEARS_MAX,
                     step=1, hint=f"resampled years, {RISK_YEARS_MIN} to {RISK_YEARS_MAX}"),
-            _number(ids.RISK_SEED, "Seed", "", RISK_SEED_DEFAULT, low=0, high=None, step=1,
+            _number(ids.RISK_SEED, "Seed", "", RISK_SEED_DEFAULT, low=SEED_RANGE[0], high=SEED_RANGE[1], step=1,
                     hint="the same seed gives the same years"),
         ]),
         html.Div(className="sh-view-row sh-study-inputs", children=[

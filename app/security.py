@@ -15,9 +15,8 @@ import dash
 from flask_httpauth import HTTPBasicAuth
 from flask_talisman import Talisman
 
-# The largest upload (20 MB, app.callbacks.MAX_UPLOAD_BYTES) reaches the server base64-encoded (4/3 of
-# its size) inside a JSON callback body, beside the page's other state: 30 MB holds that with room.
-MAX_REQUEST_BYTES = 30_000_000
+from .limits import MAX_REQUEST_BYTES
+
 USER = "siteharvest"  # the user name of the login; the password is the operator's
 PASSWORD_ENV = "SITEHARVEST_PASSWORD"
 MIN_PASSWORD_CHARS = 8

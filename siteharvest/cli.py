@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 from collections.abc import Sequence
 from pathlib import Path
@@ -17,6 +18,8 @@ from .errors import SiteInputError
 from .store import backup_life_text
 
 EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 1
+DEBUG_ENV = "SITEHARVEST_DEBUG"
 
 
 def _fmt(x: float | None, digits: int = 1) -> str:
@@ -301,6 +304,13 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         return 130
+    except Exception as exc:  # a fault of the program, not of the input: one line, the details on request
+        if os.environ.get(DEBUG_ENV):
+            raise
+        print(f"siteharvest: internal error ({type(exc).__name__}: {' '.join(str(exc).split())[:200]}); "
+              f"this is a fault of the program, not of your input: set {DEBUG_ENV}=1 to see where",
+              file=sys.stderr)
+        return EXIT_INTERNAL
 
 
 if __name__ == "__main__":

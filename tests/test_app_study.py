@@ -32,8 +32,8 @@ from app import callbacks as cb
 from app import callbacks_study as cs
 from app import ids
 from app.engine import load_records
-from app.uploads import upload_store
 from app.factory import create_app
+from app.uploads import upload_store
 from siteharvest.assess import COMBINED_ID, assess
 from siteharvest.site import load_site, parse_site
 from siteharvest.sizing import report_interval, sizing_map, weather_risk

@@ -93,3 +93,22 @@ def test_report_interval_checks_the_target(prep):
 def test_good_options_still_run(capsys):
     assert main(["size", SITE, "--steps", "4", "--years", "3", "--seed", "0", "--max-deficit-days", "0"]) == 0
     assert "deficit days" in capsys.readouterr().out
+
+
+def test_a_fault_of_the_program_is_one_line_not_a_traceback(monkeypatch, capsys):
+    """Common practice for command-line tools: a bug reports itself in one line (exit 1), the traceback on request."""
+    from siteharvest import cli
+
+    def broken(args):
+        raise TypeError("unsupported operand\nsecond line")
+
+    parser = cli.build_parser()
+    monkeypatch.setattr(cli, "build_parser", lambda: parser)
+    parser._subparsers._group_actions[0].choices["schema"].set_defaults(func=broken)
+    monkeypatch.delenv(cli.DEBUG_ENV, raising=False)
+    assert cli.main(["schema"]) == cli.EXIT_INTERNAL
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "internal error (TypeError: unsupported operand second line)" in err
+    monkeypatch.setenv(cli.DEBUG_ENV, "1")
+    with pytest.raises(TypeError):
+        cli.main(["schema"])

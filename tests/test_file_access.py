@@ -191,9 +191,11 @@ def test_site_opened_with_the_files_it_names(tmp_path):
                           'spectrum_unit = "g"\nspectrum_measure = "rms"\n')
     alone, k1, line1 = cb.upload_site([upload(site)], ["skid.toml"], key, spots, SESSION_A)
     assert "names logs/skid.csv: open it together with the site file" in line1
+    assert alone[k1]["files"] == {}  # opened, but with nothing to read: the status then says what is missing
     both, k2, line2 = cb.upload_site([upload(site), upload(survey)], ["skid.toml", "skid.csv"], key, spots,
                                      SESSION_A)
-    assert "open it together" not in line2 and both[k2]["files"] == {"logs/skid.csv": both[k2]["files"]["logs/skid.csv"]}
+    assert "open it together" not in line2
+    assert both[k2]["files"] == {"logs/skid.csv": upload_store().put(SESSION_A, survey)}  # kept under its hash
     assert assessment_for(both[k2], SESSION_A).sources[-1].annual_energy_wh >= 0
 
 

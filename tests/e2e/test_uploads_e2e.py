@@ -62,3 +62,17 @@ def test_site_opened_with_its_weather_file_uses_it(watched_page: Page):
     expect(page.locator("#sh-site-upload-msg")).not_to_contain_text("open it together")
     expect(page.locator(".sh-status-ok")).to_contain_text("station-year.csv")
     expect(page.locator(".sh-table")).to_be_visible()
+
+
+def test_an_upload_too_large_to_send_is_said_where_the_user_looks(page: Page, app_url: str):
+    page.goto(app_url)
+    expect(page.locator(".sh-table")).to_be_visible()
+    name_before = page.locator(".sh-status-name").inner_text()
+    page.locator("#sh-weather-upload input[type=file]").set_input_files(files=[{
+        "name": "huge.csv", "mimeType": "text/csv", "buffer": b"0," * 12_500_000}])  # 25 MB
+    problem = page.locator("#sh-problem")
+    expect(problem).to_contain_text("too much to send at once")
+    expect(problem).to_be_in_viewport()
+    expect(page.locator(".sh-status-name")).to_have_text(name_before)
+    page.get_by_role("button", name="Dismiss").click()
+    expect(problem).to_have_text("")
