@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
 from shared import BASE_SITE
 
 
@@ -18,3 +20,10 @@ def site_file(tmp_path: Path):
         return path
 
     return make
+
+
+# CI runs each property test on the same examples every time (a failure there is then repeatable);
+# a developer's run keeps searching new ones.
+settings.register_profile("ci", derandomize=True, print_blob=True)
+if os.environ.get("CI"):
+    settings.load_profile("ci")

@@ -76,3 +76,21 @@ def test_an_upload_too_large_to_send_is_said_where_the_user_looks(page: Page, ap
     expect(page.locator(".sh-status-name")).to_have_text(name_before)
     page.get_by_role("button", name="Dismiss").click()
     expect(problem).to_have_text("")
+
+
+@pytest.mark.parametrize("case", ["table for a preset name", "deep nesting", "5000-digit number"])
+def test_a_hostile_site_file_gets_one_line_in_the_page(watched_page: Page, case: str):
+    page = watched_page
+    text = {"table for a preset name": ROOF.replace('chemistry = "li-ion"', "chemistry = { a = 1 }"),
+            "deep nesting": "a = " + "[" * 2000 + "]" * 2000,
+            "5000-digit number": ROOF.replace("latitude_deg = ", "latitude_deg = " + "7" * 5000 + " # ", 1)}[case]
+    assert text != ROOF
+    before = page.locator(".sh-status-name").inner_text()
+    page.locator("#sh-site-upload input[type=file]").set_input_files(files=[{
+        "name": "hostile.toml", "mimeType": "application/toml", "buffer": text.encode("utf-8")}])
+    message = page.locator("#sh-site-upload-msg")
+    expect(message).to_contain_text("hostile.toml")
+    expect(message).to_contain_text("expected")
+    assert "\n" not in message.inner_text() and "Traceback" not in message.inner_text()
+    expect(page.locator(".sh-status-name")).to_have_text(before)
+    expect(page.locator("#sh-problem")).to_have_text("")
