@@ -1,7 +1,8 @@
 """The folders shipped with siteharvest: the dashboard's assets and the sample spots.
 
 In a source checkout they sit at the top of the repository; a wheel carries them inside this package
-(pyproject.toml maps ``app.assets`` and ``app.sample_sites`` onto those folders).
+(pyproject.toml maps ``siteharvest_app.assets`` and ``siteharvest_app.sample_sites`` onto those folders;
+the repository's ``app/`` folder itself installs as ``siteharvest_app``).
 """
 
 from __future__ import annotations

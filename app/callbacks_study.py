@@ -1,7 +1,7 @@
 """Callbacks of the study views: what it takes (sizing map), weather risk, and the report download.
 
 Plain functions over the stores' contents, registered by :func:`register` (called from
-:func:`app.callbacks.register`). The sizing and risk views compute only while their tab is open, and
+:func:`siteharvest_app.callbacks.register`). The sizing and risk views compute only while their tab is open, and
 their results are memoised by the spot's content (the site dict, its folder and the digests of the
 files it names) plus the view's own inputs, like the engine's assessment cache.
 """

@@ -1,4 +1,4 @@
-"""The spot editor as Dash components, rendered from :mod:`app.fieldspec`."""
+"""The spot editor as Dash components, rendered from :mod:`siteharvest_app.fieldspec`."""
 
 from __future__ import annotations
 

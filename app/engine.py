@@ -7,7 +7,7 @@ A *spot record* is what the browser keeps for one spot (in a ``dcc.Store``)::
 
 Nothing in a record is trusted, and no server path is in it. The files a spot names resolve by one
 rule (:class:`siteharvest.files.ListedFiles`): among the uploads of the browser session that holds the
-record (kept on the server, :mod:`app.uploads`), the bundled sample data, and, for a spot the server
+record (kept on the server, :mod:`siteharvest_app.uploads`), the bundled sample data, and, for a spot the server
 was started with, the files that spot's own site file named then (``origin`` picks that list, which
 lives here on the server). Anything else is refused without looking at the disk.
 

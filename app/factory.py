@@ -35,7 +35,7 @@ def create_app(paths: list[Path] | list[str] | None = None, *, password: str | N
     """A dashboard over the site files (or folders of them) in ``paths``; none: the sample spots.
 
     Every response carries the security headers and requests over the size limit are refused
-    (:mod:`app.security`); with ``password``, every route asks for it (HTTP Basic, user ``siteharvest``).
+    (:mod:`siteharvest_app.security`); with ``password``, every route asks for it (HTTP Basic, user ``siteharvest``).
     """
     spots, errors = load_records([Path(p) for p in paths] if paths else None)
     app = dash.Dash(

@@ -1,7 +1,7 @@
 """Figure builders for the sizing study and the weather risk: pure functions to plotly Figures.
 
 No Dash here: the dashboard's sizing and weather-risk views and the report render the same builders.
-Every axis names its unit. Colours come from the palette of :mod:`app.figures` (Okabe & Ito 2008 for
+Every axis names its unit. Colours come from the palette of :mod:`siteharvest_app.figures` (Okabe & Ito 2008 for
 marks; cividis, Nuñez, Anderton & Renslow 2018, for the continuous deficit-day scale, whose lightness
 rises steadily so that it also reads in greyscale); marks differ by shape and line style as well as
 colour, and carry direct labels, so that a black-and-white print keeps their meaning.
@@ -15,8 +15,9 @@ import math
 import numpy as np
 import plotly.graph_objects as go
 
-from app.figures import OKABE_ITO, base_layout
 from siteharvest.sizing import SMALLER_IS_MORE, SizingMap, WeatherRisk
+
+from .figures import OKABE_ITO, base_layout
 
 # Plain axis names for each kind's size knob and each store's size field.
 SIZE_LABELS = {

@@ -2,7 +2,7 @@
 
 One process serves with waitress (any system); ``workers > 1`` runs gunicorn's pre-forking server
 (Linux only). Either way requests are limited in size, responses carry the security headers of
-:mod:`app.security`, and an address other than loopback needs the operator's password.
+:mod:`siteharvest_app.security`, and an address other than loopback needs the operator's password.
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ THREADS = 8  # request threads per process: reports waiting for the browser hold
 IDENT = "siteharvest"  # the Server header: no software name or version
 MAX_HEADER_BYTES = 65_536
 EXIT_REFUSED = 2
-UPLOAD_DIR_ENV = "SITEHARVEST_UPLOAD_DIR"  # read by app.uploads
+UPLOAD_DIR_ENV = "SITEHARVEST_UPLOAD_DIR"  # read by siteharvest_app.uploads
 
 
 def is_loopback(host: str) -> bool:

@@ -21,10 +21,11 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from app import callbacks as cb  # noqa: E402
-from app import ids  # noqa: E402
-from app.engine import load_records  # noqa: E402
-from app.fieldspec import apply_action, display_value  # noqa: E402
+from siteharvest_app import callbacks as cb  # noqa: E402
+from siteharvest_app import ids  # noqa: E402
+from siteharvest_app.engine import load_records  # noqa: E402
+from siteharvest_app.fieldspec import apply_action, display_value  # noqa: E402
+
 from siteharvest.site import parse_site  # noqa: E402
 from siteharvest.sources import SOURCE_KINDS  # noqa: E402
 
@@ -32,8 +33,8 @@ FIRST_LOAD = r"""
 import json, sys, time
 t0 = time.perf_counter()
 sys.path.insert(0, sys.argv[1])
-from app.factory import create_app
-from app import callbacks as cb, ids
+from siteharvest_app.factory import create_app
+from siteharvest_app import callbacks as cb, ids
 app = create_app()
 t1 = time.perf_counter()
 client = app.server.test_client()

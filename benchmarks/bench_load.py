@@ -26,7 +26,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from app import ids  # noqa: E402
+from siteharvest_app import ids  # noqa: E402
 
 HOST = "127.0.0.1"
 TIMEOUT_S = 300.0

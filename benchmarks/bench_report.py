@@ -17,7 +17,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from app.report import make_report
+from siteharvest_app.report import make_report
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_sites"
 

@@ -196,7 +196,7 @@ def _progress_line(line: str) -> None:
 
 def cmd_report(args: argparse.Namespace) -> int:
     try:
-        from app.report import ReportError, write_report
+        from siteharvest_app.report import ReportError, write_report
     except ImportError:
         print("siteharvest: the report needs the dashboard package (app), which is not installed in this build",
               file=sys.stderr)
@@ -229,7 +229,7 @@ def cmd_schema(args: argparse.Namespace) -> int:
 
 def cmd_serve(args: argparse.Namespace) -> int:
     try:
-        from app.server import serve
+        from siteharvest_app.server import serve
     except ImportError:
         print("siteharvest: the dashboard is not installed in this build", file=sys.stderr)
         return 1

@@ -11,7 +11,7 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from typing import Any
 
-from app.server import wsgi_server
+from siteharvest_app.server import wsgi_server
 
 HOST = "127.0.0.1"
 

@@ -23,14 +23,14 @@ from dash._callback_context import context_value
 from dash._utils import AttributeDict
 from dash.exceptions import PreventUpdate
 from shared import BASE_SITE
+from siteharvest_app import callbacks as cb
+from siteharvest_app import figures, ids
+from siteharvest_app.bundled import SAMPLE_SITES
+from siteharvest_app.engine import ASSESSMENTS, assessment_for, load_records, site_dict
+from siteharvest_app.factory import create_app
+from siteharvest_app.tables import VERDICT_ORDER, verdict_rank
+from siteharvest_app.uploads import upload_store
 
-from app import callbacks as cb
-from app import figures, ids
-from app.bundled import SAMPLE_SITES
-from app.engine import ASSESSMENTS, assessment_for, load_records, site_dict
-from app.factory import create_app
-from app.tables import VERDICT_ORDER, verdict_rank
-from app.uploads import upload_store
 from siteharvest.assess import assess
 from siteharvest.site import load_site, parse_site
 from siteharvest.sources.solar import TECHNOLOGY_PRESETS
@@ -334,8 +334,8 @@ def test_choosing_a_portfolio_row_opens_that_rows_spot_whatever_the_sort(four, s
 
 
 def test_portfolio_grid_keeps_the_columns_and_sorts_numbers_as_numbers():
-    from app.layout import _portfolio_table
-    from app.tables import PORTFOLIO_COLUMNS
+    from siteharvest_app.layout import _portfolio_table
+    from siteharvest_app.tables import PORTFOLIO_COLUMNS
 
     with warnings.catch_warnings():
         warnings.simplefilter("error", DeprecationWarning)  # no deprecated table component any more

@@ -14,11 +14,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-
-from app import figures
-from app.editor import render_editor
-from app.engine import site_dict
-from app.fieldspec import (
+from siteharvest_app import figures
+from siteharvest_app.editor import render_editor
+from siteharvest_app.engine import site_dict
+from siteharvest_app.fieldspec import (
     REMOVE,
     EditProblem,
     apply_edit,
@@ -28,6 +27,7 @@ from app.fieldspec import (
     format_bounds,
     parse_value,
 )
+
 from siteharvest.fields import bounds_of
 from siteharvest.site import parse_site, parse_site_text
 from siteharvest.sources.solar import SolarSource

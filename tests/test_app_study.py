@@ -27,13 +27,13 @@ from dash._utils import AttributeDict
 from dash.exceptions import PreventUpdate
 from pypdf import PdfReader
 from shared import BASE_SITE
+from siteharvest_app import callbacks as cb
+from siteharvest_app import callbacks_study as cs
+from siteharvest_app import ids
+from siteharvest_app.engine import load_records
+from siteharvest_app.factory import create_app
+from siteharvest_app.uploads import upload_store
 
-from app import callbacks as cb
-from app import callbacks_study as cs
-from app import ids
-from app.engine import load_records
-from app.factory import create_app
-from app.uploads import upload_store
 from siteharvest.assess import COMBINED_ID, assess
 from siteharvest.site import load_site, parse_site
 from siteharvest.sizing import report_interval, sizing_map, weather_risk

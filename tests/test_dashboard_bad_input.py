@@ -17,10 +17,9 @@ from typing import Any
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-
-from app import ids
-from app.bundled import SAMPLE_SITES
-from app.factory import create_app
+from siteharvest_app import ids
+from siteharvest_app.bundled import SAMPLE_SITES
+from siteharvest_app.factory import create_app
 
 SAMPLE = (SAMPLE_SITES / "plant-room.toml").read_text(encoding="utf-8")
 ROOF = (SAMPLE_SITES / "roof-parapet.toml").read_text(encoding="utf-8")

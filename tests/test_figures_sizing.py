@@ -12,8 +12,7 @@ import plotly.graph_objects as go
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-
-from app.figures_sizing import (
+from siteharvest_app.figures_sizing import (
     cell_edges,
     integer_step,
     is_log_spaced,
@@ -23,6 +22,7 @@ from app.figures_sizing import (
     sizing_heatmap,
     unit_text,
 )
+
 from siteharvest.sizing import SizingMap, WeatherRisk, frontier_and_pick
 
 

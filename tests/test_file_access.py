@@ -17,14 +17,14 @@ from pathlib import Path
 
 import pytest
 from dash import no_update
+from siteharvest_app import callbacks as cb
+from siteharvest_app import callbacks_study as cs
+from siteharvest_app import ids
+from siteharvest_app.bundled import SAMPLE_SITES
+from siteharvest_app.engine import ASSESSMENTS, assessment_for, files_for, load_records
+from siteharvest_app.factory import create_app
+from siteharvest_app.uploads import UploadStore, upload_store, valid_session
 
-from app import callbacks as cb
-from app import callbacks_study as cs
-from app import ids
-from app.bundled import SAMPLE_SITES
-from app.engine import ASSESSMENTS, assessment_for, files_for, load_records
-from app.factory import create_app
-from app.uploads import UploadStore, upload_store, valid_session
 from siteharvest.errors import SiteInputError
 from siteharvest.files import FolderFiles, ListedFiles, listed_in_folder, named_files, plain_name
 from siteharvest.site import load_site, parse_site_text

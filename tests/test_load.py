@@ -14,9 +14,9 @@ import secrets
 import threading
 
 from served import callback_body, layout_values, post_json, request, running
+from siteharvest_app import ids
+from siteharvest_app.factory import create_app
 
-from app import ids
-from app.factory import create_app
 from siteharvest.demand import NodeSpec, mean_power_w
 
 SESSIONS = 20

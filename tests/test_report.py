@@ -22,12 +22,12 @@ import pandas as pd
 import plotly.graph_objects as go
 import pytest
 from pypdf import PdfReader
+from siteharvest_app.report import build_report, make_report, render, write_report
+from siteharvest_app.report.html import fmt_energy_wh, fmt_sig, fmt_size, print_ready_monthly
+from siteharvest_app.report.methods import collect_references, modules_for, reference_entries
+from siteharvest_app.report.render import ReportBrowser, ReportError, _unique_ids, html_to_pdf, inline_svg
+from siteharvest_app.report.study import expand_inputs, fingerprint, input_files, study_spot
 
-from app.report import build_report, make_report, render, write_report
-from app.report.html import fmt_energy_wh, fmt_sig, fmt_size, print_ready_monthly
-from app.report.methods import collect_references, modules_for, reference_entries
-from app.report.render import ReportBrowser, ReportError, _unique_ids, html_to_pdf, inline_svg
-from app.report.study import expand_inputs, fingerprint, input_files, study_spot
 from siteharvest import __version__
 from siteharvest.assess import prepare
 from siteharvest.cli import main

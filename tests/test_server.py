@@ -2,7 +2,7 @@
 every route, the refusal to listen beyond loopback without one, gunicorn's workers, the report queue.
 
 Servers listen on 127.0.0.1 only; nothing leaves this machine. Expected header values are the ones
-app.security sets (each named in the test); the inline-script hashes are recomputed here from the page.
+siteharvest_app.security sets (each named in the test); the inline-script hashes are recomputed here from the page.
 """
 
 from __future__ import annotations
@@ -23,10 +23,9 @@ from typing import ClassVar
 import pytest
 from dash import no_update
 from served import HOST, basic, post_json, request, running
-
-from app import ids, report_queue, security
-from app import server as srv
-from app.factory import create_app
+from siteharvest_app import ids, report_queue, security
+from siteharvest_app import server as srv
+from siteharvest_app.factory import create_app
 
 ROOT = Path(__file__).resolve().parents[1]
 PASSWORD = "correct horse battery"
@@ -86,7 +85,7 @@ def test_flask_refuses_an_oversized_body_under_any_wsgi_server(app):
 
 
 def test_the_limit_holds_the_largest_upload_encoded():
-    from app.callbacks import MAX_UPLOAD_BYTES
+    from siteharvest_app.callbacks import MAX_UPLOAD_BYTES
 
     encoded = 4 * ((MAX_UPLOAD_BYTES + 2) // 3)  # base64 (RFC 4648): 4 characters per 3 bytes
     assert encoded + 1_000_000 < security.MAX_REQUEST_BYTES < 2 * MAX_UPLOAD_BYTES
@@ -360,7 +359,7 @@ def test_reports_in_threads_never_overlap(run_dir):
 @pytest.fixture
 def lock_held_elsewhere(run_dir):
     """Another process holds the report lock until the test ends."""
-    code = ("import sys; from app.report_queue import report_lock\n"
+    code = ("import sys; from siteharvest_app.report_queue import report_lock\n"
             "lock = report_lock(30); lock.acquire(); print('held', flush=True); sys.stdin.read(); lock.release()")
     proc = subprocess.Popen([sys.executable, "-c", code], stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True,
                             cwd=ROOT, env={**os.environ, "SITEHARVEST_RUN_DIR": str(run_dir)})

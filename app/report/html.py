@@ -21,14 +21,6 @@ import plotly.graph_objects as go
 from pydantic import BaseModel
 
 import siteharvest
-from app.figures import (
-    OKABE_ITO,
-    case_calendar_figure,
-    case_week_figure,
-    case_year_figure,
-    sources_figure,
-)
-from app.figures_sizing import SIZE_LABELS, risk_histogram, sizing_heatmap, unit_text
 from siteharvest.assess import Assessment, CaseResult
 from siteharvest.fields import bounds_of
 from siteharvest.metrics import J_PER_WH, monthly_sum
@@ -36,6 +28,14 @@ from siteharvest.sizing import SizingMap
 from siteharvest.store import backup_life_text
 from siteharvest.timegrid import REFERENCE_YEAR
 
+from ..figures import (
+    OKABE_ITO,
+    case_calendar_figure,
+    case_week_figure,
+    case_year_figure,
+    sources_figure,
+)
+from ..figures_sizing import SIZE_LABELS, risk_histogram, sizing_heatmap, unit_text
 from .methods import (
     GENERAL_ASSUMPTIONS,
     KIND_METHODS,

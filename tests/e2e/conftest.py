@@ -12,9 +12,8 @@ from pathlib import Path
 
 import pytest
 from playwright.sync_api import expect
+from siteharvest_app.factory import create_app
 from werkzeug.serving import make_server
-
-from app.factory import create_app
 
 ROOT = Path(__file__).resolve().parents[2]
 ARTIFACTS = ROOT / "test-artifacts"

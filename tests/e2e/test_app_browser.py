@@ -10,8 +10,8 @@ from pathlib import Path
 
 import pytest
 from playwright.sync_api import Page, expect
+from siteharvest_app.tables import summary_rows
 
-from app.tables import summary_rows
 from siteharvest.assess import assess
 from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 from siteharvest.site import dump_site, load_site, parse_site

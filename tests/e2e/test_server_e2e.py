@@ -11,9 +11,8 @@ from pathlib import Path
 import pytest
 from playwright.sync_api import Browser, Page, expect
 from served import running
-
-from app.factory import create_app
-from app.security import USER
+from siteharvest_app.factory import create_app
+from siteharvest_app.security import USER
 
 pytestmark = pytest.mark.e2e
 

@@ -12,9 +12,8 @@ from pathlib import Path
 import pvlib
 import pytest
 from playwright.sync_api import Page, expect
-
-from app.bundled import SAMPLE_SITES
-from app.uploads import upload_store
+from siteharvest_app.bundled import SAMPLE_SITES
+from siteharvest_app.uploads import upload_store
 
 pytestmark = pytest.mark.e2e
 
