@@ -19,6 +19,7 @@ from typing import Any
 from .engine import assessment_for
 from .factory import create_app
 from .security import MAX_REQUEST_BYTES, PASSWORD_ENV, USER, operator_password
+from .uploads import ROOT_ENV as UPLOAD_DIR_ENV
 
 DEFAULT_HOST = "127.0.0.1"
 DEFAULT_PORT = 8050
@@ -26,7 +27,6 @@ THREADS = 8  # request threads per process: reports waiting for the browser hold
 IDENT = "siteharvest"  # the Server header: no software name or version
 MAX_HEADER_BYTES = 65_536
 EXIT_REFUSED = 2
-UPLOAD_DIR_ENV = "SITEHARVEST_UPLOAD_DIR"  # read by siteharvest_app.uploads
 
 
 def is_loopback(host: str) -> bool:
@@ -43,7 +43,7 @@ def _warm(spots: dict[str, Any]) -> None:
     """Fill the assessment cache for the loaded spots, so the first visit finds results ready."""
     for record in spots.values():
         try:
-            assessment_for(record, {})
+            assessment_for(record, None)
         except Exception:  # the page shows the spot's problem when asked; warming never stops the server
             continue
 
