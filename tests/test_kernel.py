@@ -7,6 +7,7 @@ import math
 import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from validation import external_check
 
 from siteharvest.kernel import StoreArrays, simulate
 from siteharvest.metrics import dark_hours, deficit_days, first_wake_hours, longest_outage_hours
@@ -92,6 +93,10 @@ def test_kernel_matches_plain_loop_and_balances(seed, n_hours, sqrt_leak, always
         assert t["spilled"] >= -1e-9
 
 
+@external_check(area="kernel", quantity="0.5 J/h in, 1 J/h out, 120 J store starting full, turn-on at 12 J, "
+                                    "one year",
+                value="empty after 240 h; 348 deficit days; longest outage 24 h",
+                source="hand-worked case (docstring)", tolerance="exact")
 def test_constant_harvest_and_demand_by_hand():
     """Hand-worked case: 0.5 J/h in, 1 J/h out, 120 J store starting full, turn-on at 12 J.
 
@@ -115,6 +120,8 @@ def test_constant_harvest_and_demand_by_hand():
     assert not res.on[0, 241] and res.on[0, 265]
 
 
+@external_check(area="kernel", quantity="first wake of an empty 10 J store, turn-on 4 J, 1 J/h harvest",
+                value="hour 4", source="hand-worked case", tolerance="exact")
 def test_first_wake_from_empty_store():
     """Empty 10 J supercapacitor-like store turning on at 4 J with 1 J/h harvest: wakes in hour 4."""
     store = store_of(1, max_j=10, cutoff_j=1, turn_on_j=4, cold_start_j=0, leak_fraction_per_h=0,
@@ -125,6 +132,8 @@ def test_first_wake_from_empty_store():
     assert math.isnan(first_wake_hours(never.on)[0])
 
 
+@external_check(area="kernel", quantity="store charging through the cold-start level 5 J (1 J/h below, 10 J/h above)",
+                value="1, 2, 3, 4, 5, 15, 25 J", source="hand-worked case", tolerance="1e-7 relative")
 def test_cold_start_harvest_used_below_threshold():
     """Below the cold-start level only the cold figure charges the store."""
     store = store_of(1, max_j=100, cutoff_j=0, turn_on_j=50, cold_start_j=5, leak_fraction_per_h=0,

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pvlib
 import pytest
+from validation import external_check
 
 from siteharvest.context import SpotContext
 from siteharvest.weather import WeatherSpec, load_weather_year
@@ -19,6 +20,10 @@ def greensboro():
                        altitude_m=meta.altitude_m, utc_offset_h=meta.utc_offset_h)
 
 
+@external_check(area="sun", quantity="median GHI at zenith < 45 deg on TMY3 723170: overcast (kt < 0.3), "
+                                 "clear (kt > 0.65)",
+                value="about 10 and 100 mW/cm2", source="common practice (range only)",
+                tolerance="3-30 and 60-120 mW/cm2; ratio above 3")
 def test_overcast_daylight_is_about_ten_mw_per_cm2(greensboro):
     """Common practice: overcast or indirect daylight about 10 mW/cm2 (100 W/m2), direct sun about
     100 mW/cm2. Hours with the sun high (zenith < 45 deg) are split by clearness index (GHI over

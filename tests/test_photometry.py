@@ -1,6 +1,7 @@
 """Tests of siteharvest.photometry: luminous efficacy of lamp spectra and Perez daylight illuminance.
 
-Check values and their sources are named beside each check (see /work/shared/references.md, section 1).
+Each check value names its source beside it; docs/validation.md lists them all (generated from the
+``external_check`` records).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ import pvlib
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
+from validation import external_check
 
 from siteharvest import photometry as ph
 from siteharvest.errors import SiteInputError
@@ -33,7 +35,8 @@ PVLIB_DATA = Path(pvlib.__file__).parent / "data"
 
 def _ler_from_cie_tables(illuminant: str, band=(380.0, 780.0)) -> float:
     """LER computed here, independently of siteharvest, straight from colour-science's CIE tables:
-    K = 683 * trapz(S V) over the tabulated range / trapz(S) over ``band`` (references.md 1.1 snippet)."""
+    K = 683 * trapz(S V) over the tabulated range / trapz(S) over ``band`` (K_m = 683 lm/W: the SI
+    definition of the candela)."""
     v_sd = SDS_LEFS_PHOTOPIC["CIE 1924 Photopic Standard Observer"]
     sd = colour.SDS_ILLUMINANTS[illuminant]
     wl, s = sd.wavelengths, sd.values
@@ -46,28 +49,44 @@ def _ler_from_cie_tables(illuminant: str, band=(380.0, 780.0)) -> float:
     ("fluorescent", "FL2"), ("fluorescent-triphosphor", "FL11"), ("neutral-white-led", "LED-B3"),
     ("cool-white-led", "LED-B4"), ("incandescent", "A"), ("daylight", "D65"),
 ])
+@external_check(area="light", quantity="luminous efficacy of radiation, 380-780 nm, of the lamp and daylight spectra",
+                value="computed in the test: FL2 336.8, FL11 336.9, LED-B3 317.0, LED-B4 319.3, A 156.2, "
+                      "D65 205.2 lm/W",
+                source="CIE 015:2018 illuminant tables and CIE 1924 V(lambda) as shipped by colour-science 0.4.7, "
+                       "integrated with independent numpy code",
+                tolerance="0.1 %")
 def test_ler_matches_cie_tables(source, illuminant):
     # Source: CIE 015:2018 illuminant tables and CIE 1924 V(lambda) as shipped by colour-science 0.4.7,
-    # integrated in this test with independent numpy code; 0.1 % (references.md "[C] to <= 0.1 %").
+    # integrated in this test with independent numpy code; 0.1 %, the reach of a value computed here.
     expected = _ler_from_cie_tables(illuminant)
     assert ph.luminous_efficacy_lm_w(source) == pytest.approx(expected, rel=1e-3)
 
 
 @pytest.mark.parametrize(("source", "w_m2_per_klx"), [
-    ("fluorescent", 2.97),              # references.md 1.1, FL2, 380-780 nm [C]
-    ("fluorescent-triphosphor", 2.97),  # references.md 1.1, FL11 [C]
-    ("neutral-white-led", 3.16),        # references.md 1.1, LED-B3 [C]
-    ("cool-white-led", 3.13),           # references.md 1.1, LED-B4 [C]
-    ("warm-white-led", 3.21),           # references.md 1.1, LED-B1 [C]
-    ("incandescent", 6.40),             # references.md 1.1, A over 380-780 nm [C]
-    ("daylight", 4.87),                 # references.md 1.1, D65 over 380-780 nm [C]
+    # W/m2 per 1000 lx = 1000 / K, K from the CIE 015:2018 tables x CIE 1924 V(lambda) over 380-780 nm [C]
+    ("fluorescent", 2.97),              # CIE FL2
+    ("fluorescent-triphosphor", 2.97),  # CIE FL11
+    ("neutral-white-led", 3.16),        # CIE LED-B3
+    ("cool-white-led", 3.13),           # CIE LED-B4
+    ("warm-white-led", 3.21),           # CIE LED-B1
+    ("incandescent", 6.40),             # CIE A
+    ("daylight", 4.87),                 # CIE D65
 ])
+@external_check(area="light", quantity="irradiance per 1000 lx, 380-780 nm",
+                value="FL2 2.97, FL11 2.97, LED-B3 3.16, LED-B4 3.13, LED-B1 3.21, A 6.40, D65 4.87 W/m2",
+                source="1000 / K with K from the CIE 015:2018 illuminant tables x CIE 1924 V(lambda) "
+                       "(colour-science 0.4.7 data), computed",
+                tolerance="equal when rounded to 2 decimals")
 def test_irradiance_per_klx_matches_reference_sheet(source, w_m2_per_klx):
     assert round(ph.irradiance_per_klx_w_m2(source), 2) == w_m2_per_klx
 
 
+@external_check(area="light", quantity="CIE illuminant A over 300-1100 nm (the band c-Si uses)",
+                value="18.6 W/m2 per 1000 lx; 53.9 lm/W",
+                source="Planck's law at 2856 K (CIE illuminant A, CIE 015:2018) x CIE 1924 V(lambda), computed",
+                tolerance="equal when rounded to 1 decimal")
 def test_incandescent_band_dependence():
-    # references.md 1.1 [C]: A as Planck 2856 K carries 18.6 W/m2 per klx over 300-1100 nm
+    # Planck's law at 2856 K (CIE illuminant A) x CIE 1924 V, computed [C]: 18.6 W/m2 per klx over 300-1100 nm
     # (K = 53.9 lm/W), against 6.40 over 380-780 nm: the band must always be stated.
     assert round(ph.irradiance_per_klx_w_m2("incandescent", (300, 1100)), 1) == 18.6
     assert round(ph.luminous_efficacy_lm_w("incandescent", (300, 1100)), 1) == 53.9
@@ -80,6 +99,10 @@ def test_led_and_fluorescent_carry_nothing_outside_the_visible_band():
         assert wide == pytest.approx(ph.irradiance_per_klx_w_m2(source), rel=2e-3)
 
 
+@external_check(area="light", quantity="peak wavelength of illuminant A (Planck 2856 K)",
+                value="1015 nm (2898 um K / 2856 K)",
+                source="Wien's displacement law, b = 2.898e-3 m K (CODATA 2018: 2.897771955e-3 m K)",
+                tolerance="5 nm (one step of the 5 nm grid)")
 def test_spectra_on_the_common_grid():
     d65, a = ph.spectrum("daylight"), ph.spectrum("incandescent")
     grid = ph.GRID_NM
@@ -117,10 +140,18 @@ def test_unknown_light_source_names_the_field():
 # Perez et al. (1990) daylight
 # --------------------------------------------------------------------------------------------------
 
+@external_check(area="light", quantity="global and diffuse illuminance of an overcast sky (bin 1): DHI 200 W/m2, "
+                                   "Z = 60 deg, E0n 1367 W/m2, W = 2 cm",
+                value="200 W/m2 x K, K worked in the test from the bin-1 coefficients",
+                source="Perez, Ineichen, Seals, Michalsky & Stewart (1990), Solar Energy 44(5):271-289, Table 4; "
+                       "air mass after Kasten (1966)",
+                tolerance="0.1 %")
+@external_check(area="light", quantity="global and diffuse efficacy of that sky", value="95-125 lm/W",
+                source="common practice for daylight (range only)", tolerance="range")
 def test_perez_overcast_hand_example():
     # Overcast sky (DNI = 0 so epsilon = 1, bin 1), DHI 200 W/m2, Z = 60 deg, E0n 1367 W/m2, W = 2 cm.
     # Air mass from Kasten (1966): m = 1/(cos Z + 0.15 (93.885 - Z)^-1.253).
-    # Diffuse efficacy, bin 1 of Perez et al. (1990) Table 4 (references.md 1.5 [V]):
+    # Diffuse efficacy, bin 1 of Perez et al. (1990) Table 4 (Solar Energy 44(5):271-289):
     # K = 97.24 - 0.46 W + 12.00 cos Z - 8.91 ln(Delta); direct illuminance is 0.
     m = 1.0 / (np.cos(np.radians(60.0)) + 0.15 * (93.885 - 60.0) ** -1.253)
     delta = 200.0 * m / 1367.0
@@ -131,10 +162,15 @@ def test_perez_overcast_hand_example():
     assert out["diffuse_illum_lx"].iloc[0] == pytest.approx(200.0 * k_diffuse, rel=1e-3)
     assert out["global_illum_lx"].iloc[0] == pytest.approx(200.0 * k_global, rel=1e-3)
     assert out["direct_illum_lx"].iloc[0] == 0.0
-    # Both efficacies lie in the 95-125 lm/W range usual for daylight (references.md 1.5 [CP]).
+    # Both efficacies lie in the 95-125 lm/W range usual for daylight (common practice, range only).
     assert 95 < k_diffuse < 125 and 95 < k_global < 125
 
 
+@external_check(area="light", quantity="sky clearness epsilon: overcast (DNI = 0); clear (DHI 80, DNI 850 W/m2, "
+                                   "Z = 30 deg)",
+                value="1 exactly; above 6.2 (the clearest bin)",
+                source="Perez et al. (1990), Solar Energy 44(5):271-289, definition of epsilon and its bins",
+                tolerance="exact; bin edge")
 def test_perez_clearness_and_night():
     # Perez et al. (1990) eq. 1: epsilon = 1 for an overcast sky, large for a clear sky at high sun.
     assert ph.perez_sky_clearness(np.array([100.0]), np.array([0.0]), np.array([30.0]))[0] == 1.0
@@ -161,13 +197,20 @@ def _tmy3(name: str) -> tuple[pd.DataFrame, dict, pd.DataFrame]:
 def _file_illuminance_scale(df: pd.DataFrame) -> float:
     """The shipped TMY3 files disagree on the unit of their illuminance columns (headed 'lx'):
     723170TYA stores hundreds of lux (global illuminance / GHI ~ 1.07), 703165TY stores lux (~110).
-    Daylight efficacy is ~100-125 lm/W (references.md 1.5), which tells them apart."""
+    Daylight efficacy is ~100-125 lm/W (common practice), which tells them apart."""
     sun = df["ghi"] > 50
     ratio = float(np.median(df.loc[sun, "GH illum (lx)"] / df.loc[sun, "ghi"]))
     assert 0.9 < ratio < 1.3 or 90 < ratio < 130
     return 100.0 if ratio < 10 else 1.0
 
 
+@external_check(area="light", quantity="monthly mean global and diffuse daylight illuminance from the Perez model "
+                                   "on the irradiance of TMY3 723170 (Greensboro NC)",
+                value="the file's own illuminance columns (modelled from irradiance in the NSRDB, stored in "
+                      "hundreds of lux)",
+                source="TMY3 723170TYA.CSV shipped with pvlib 0.16.1 (format: Wilcox & Marion 2008, Users Manual "
+                       "for TMY3 Data Sets, NREL/TP-581-43156)",
+                tolerance="global 5 % and diffuse 15 % each month; annual diffuse 10 %")
 def test_perez_against_tmy3_greensboro():
     # Open data shipped by pvlib: TMY3 723170 (Greensboro NC), whose illuminance columns are themselves
     # modelled from irradiance (NSRDB; inputs and version of the model not stated), so agreement is
@@ -188,6 +231,10 @@ def test_perez_against_tmy3_greensboro():
     assert annual == pytest.approx(1.0, abs=0.10)
 
 
+@external_check(area="light", quantity="monthly mean global and diffuse daylight illuminance, Perez model on "
+                                   "TMY3 703165 (Sand Point AK), January left out",
+                value="the file's own illuminance columns (lux)",
+                source="TMY3 703165TY.csv shipped with pvlib 0.16.1", tolerance="10 % each month")
 def test_perez_against_tmy3_sand_point():
     # Open data shipped by pvlib: TMY3 703165 (Sand Point AK), illuminance in lux. Its January mixes
     # units (day 1 in lux, the rest in hundreds of lux), so January is left out. Cool, dry climate:
@@ -202,14 +249,20 @@ def test_perez_against_tmy3_sand_point():
         np.testing.assert_allclose(mine.to_numpy(), theirs.to_numpy(), rtol=0.10, err_msg=col)
 
 
+@external_check(area="light", quantity="median global daylight efficacy on TMY3 723170, hours with GHI > 100 W/m2",
+                value="95-125 lm/W", source="common practice for most skies (range only)", tolerance="range")
 def test_tmy3_daylight_efficacy_is_plausible():
-    # Global daylight efficacy 95-125 lm/W for most skies (references.md 1.5 [CP]); AM1.5G gives 109.5.
+    # Global daylight efficacy 95-125 lm/W for most skies (common practice, range only); the ASTM G173-03
+    # global-tilt spectrum x CIE 1924 V gives 109.5 lm/W (computed).
     df, _, ours = _tmy3("723170TYA.CSV")
     sun = (df["ghi"] > 100).to_numpy()
     efficacy = ours["global_illum_lx"].to_numpy()[sun] / df["ghi"].to_numpy()[sun]
     assert 95 < np.median(efficacy) < 125
 
 
+@external_check(area="light", quantity="precipitable water at dew point 10.97 degC", value="2.0 cm",
+                source="Perez et al. (1990), Solar Energy 44(5):271-289: W = exp(0.07 Td - 0.075)",
+                tolerance="1e-6 relative")
 def test_precipitable_water():
     # Perez et al. (1990) eq. 3: W = exp(0.07 Td - 0.075); Td = 10.97 degC gives the 2 cm that
     # common implementations use as default.
@@ -238,9 +291,15 @@ def test_perez_outputs_are_finite_nonnegative_and_dark_at_night(dhi, dni, zenith
         assert (values == 0).all()
 
 
+@external_check(area="light", quantity="luminous-efficacy coefficients a, b, c, d (global and diffuse) of the "
+                                   "8 sky-clearness bins, and the bin edges",
+                value="as printed, e.g. global bin 1: 96.63, -0.47, 11.50, -9.16; edges 1.065 ... 6.200",
+                source="Perez, Ineichen, Seals, Michalsky & Stewart (1990), Solar Energy 44(5):271-289, Tables 1 "
+                       "and 4 (as transcribed; where open transcriptions differ, the majority reading)",
+                tolerance="exact")
 def test_perez_tables_match_the_published_table():
-    # Perez et al. (1990) Table 4, global and diffuse rows as listed in references.md 1.5 [V] (confirmed
-    # there against the open-source Radiance gendaylit.c and an independent transcription).
+    # Perez, Ineichen, Seals, Michalsky & Stewart (1990), Solar Energy 44(5):271-289, Table 4, global and
+    # diffuse rows (two independent open transcriptions agree; where copies differ, the majority reading).
     assert ph.PEREZ_GLOBAL["a"] == (96.63, 107.54, 98.73, 92.72, 86.73, 88.34, 78.63, 99.65)
     assert ph.PEREZ_GLOBAL["b"] == (-0.47, 0.79, 0.70, 0.56, 0.98, 1.39, 1.47, 1.86)
     assert ph.PEREZ_GLOBAL["c"] == (11.50, 1.79, 4.40, 8.36, 7.10, 6.06, 4.93, -4.46)
@@ -249,5 +308,5 @@ def test_perez_tables_match_the_published_table():
     assert ph.PEREZ_DIFFUSE["b"] == (-0.46, 1.15, 2.96, 5.59, 5.94, 3.83, 1.90, 0.35)
     assert ph.PEREZ_DIFFUSE["c"] == (12.00, 0.59, -5.53, -13.95, -22.75, -36.15, -53.24, -45.27)
     assert ph.PEREZ_DIFFUSE["d"] == (-8.91, -3.95, -8.77, -13.90, -23.74, -28.83, -14.03, -7.98)
-    # Bin edges of sky clearness, Perez et al. (1990) Table 1 (references.md 1.5).
+    # Bin edges of sky clearness, Perez et al. (1990) Table 1.
     assert tuple(ph.PEREZ_EPSILON_EDGES) == (1.065, 1.230, 1.500, 1.950, 2.800, 4.500, 6.200)

@@ -10,6 +10,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
+from validation import external_check
 
 from siteharvest.context import SpotContext
 from siteharvest.sources.rf import (
@@ -44,6 +45,9 @@ def ctx() -> SpotContext:
 # ---------------------------------------------------------------- path loss
 
 
+@external_check(area="rf", quantity="free-space loss and received power: 915 MHz, 5 m, 36 dBm EIRP, 0 dBi",
+                value="45.658 dB; -9.658 dBm", source="Friis 1946, Proc. IRE 34(5):254-256; worked by hand",
+                tolerance="0.01 dB")
 def test_friis_worked_case():
     # references.md 4.1 [M, Friis 1946]: FSPL(dB) = 20 log10 d[m] + 20 log10 f[Hz] - 147.55.
     # Worked case: 915 MHz, 36 dBm EIRP, 0 dBi receive antenna, 5 m:
@@ -59,6 +63,9 @@ def test_friis_worked_case():
     assert out.details["rf_input_dbm"][0] == pytest.approx(expected_dbm, abs=0.01)
 
 
+@external_check(area="rf", quantity="received power as density x aperture: 1 W EIRP, 2450 MHz, 3 dBi, 7 m",
+                value="S = EIRP / (4 pi d^2), A_e = lambda^2 G / (4 pi); P_r = S A_e = 3.861e-6 W",
+                source="Friis 1946, Proc. IRE 34(5):254-256; worked by hand", tolerance="1e-5 relative")
 def test_friis_power_density_form():
     # references.md 4.1 [M]: S = EIRP / (4 pi d^2) and A_e = lambda^2 G / (4 pi); P_r = S A_e must equal
     # the dB form. 1 W EIRP, 2450 MHz, 3 dBi, 7 m.
@@ -75,6 +82,8 @@ def test_friis_power_density_form():
 
 
 @pytest.mark.parametrize("distance_m", [0.3, 1.0, 2.5, 17.0, 400.0])
+@external_check(area="rf", quantity="log-distance path loss with exponent 2", value="the free-space (Friis) loss",
+                source="Rappaport 2002, Wireless Communications, sec. 4.9.1", tolerance="1e-9 dB")
 def test_log_distance_exponent_two_is_free_space(distance_m):
     # Rappaport 2002, sec. 4.9.1: PL(d) = PL(d0) + 10 n log10(d/d0) with free space to d0;
     # n = 2 is free space.
@@ -124,8 +133,13 @@ def test_distance_for_sensitivity_round_trip():
 # ---------------------------------------------------------------- limits and notes
 
 
+@external_check(area="rf", quantity="licence-free EIRP limit, US 902-928 MHz",
+                value="1 W conducted with up to 6 dBi: 4 W EIRP (36 dBm)", source="47 CFR 15.247 (from memory)",
+                tolerance="note at 37 dBm, none at 36 dBm")
+@external_check(area="rf", quantity="licence-free limit, EU 865-868 MHz, as EIRP", value="2 W ERP = 35.16 dBm EIRP",
+                source="ETSI EN 302 208 (from memory); EIRP = ERP + 2.15 dB", tolerance="0.005 dB")
 def test_eirp_limit_as_bound(ctx):
-    # 47 CFR 15.247 (from memory, references.md 4.2 [M]): 4 W EIRP (36 dBm) in US 902-928 MHz.
+    # 47 CFR 15.247 (from memory): 4 W EIRP (36 dBm) in US 902-928 MHz.
     at_limit = rf_output(RfSource(id="r", eirp_dbm=36.0, frequency_mhz=915.0), ctx)
     assert not any("exceeds" in n for n in at_limit.notes)
     over = rf_output(RfSource(id="r", eirp_dbm=37.0, frequency_mhz=915.0), ctx)
@@ -148,6 +162,9 @@ def test_eirp_limit_as_bound(ctx):
         assert out.power_w.max() <= float(dbm_to_w(out.details["rf_input_dbm"][0]))
 
 
+@external_check(area="rf", quantity="far-field distance of a 0.3 m antenna at 915 MHz",
+                value="2 D^2 / lambda = 0.55 m", source="antenna far-field criterion (textbook; from memory)",
+                tolerance="note at 0.2 m, none at 0.6 m")
 def test_near_field_note(ctx):
     close = rf_output(RfSource(id="r", distance_m=0.2, antenna_size_m=0.3, eirp_dbm=20.0), ctx)
     assert any("near field" in n for n in close.notes)
@@ -165,8 +182,12 @@ def test_below_sensitivity_gives_nothing_and_a_note(ctx):
 # ---------------------------------------------------------------- ambient mode
 
 
+@external_check(area="rf", quantity="ambient RF: default incident density; harvested per cm2 of aperture",
+                value="~0.1 uW/cm2 (GSM); harvested far below that",
+                source="Vullers et al. 2009, Solid-State Electronics 53:684-693 (from memory) and common practice",
+                tolerance="default equal; harvested below 0.1 uW/cm2 (bound)")
 def test_ambient_default_is_tiny(ctx):
-    # Vullers et al. 2009 (from memory, references.md 4.3 [M]): ambient GSM ~0.1 uW/cm2. Common practice:
+    # Vullers et al. 2009, Solid-State Electronics 53:684-693 (from memory): ambient GSM ~0.1 uW/cm2. Common practice:
     # harvested ambient RF is far below 1 uW per cm2 of antenna aperture.
     spec = RfSource(id="r", mode="ambient", extra_loss_db=0.0, rx_gain_dbi=6.0, rectifier_sensitivity_dbm=-40)
     out = rf_output(spec, ctx)
@@ -196,13 +217,21 @@ def test_rectifier_efficiency_bounded(p, sens):
 
 @pytest.mark.parametrize(("dbm", "low", "high"),
                          [(-20.0, 0.05, 0.25), (-10.0, 0.20, 0.50), (0.0, 0.40, 0.75)])
+@external_check(area="rf", quantity="default rectifier RF-to-DC efficiency at -20, -10, 0 dBm; peak",
+                value="5-25 %, 20-50 %, 40-75 %; peak 70-85 %",
+                source="Valenta & Durgin 2014, IEEE Microwave Magazine 15(4):108-120 (ranges read from the survey, "
+                       "from memory, low confidence)",
+                tolerance="range")
 def test_default_rectifier_within_survey_ranges(dbm, low, high):
-    # Valenta & Durgin 2014, IEEE Microwave Magazine 15(4):108-120, ranges as read in references.md 4.3 [L].
+    # Valenta & Durgin 2014, IEEE Microwave Magazine 15(4):108-120, ranges read from the survey (from memory,
+    # low confidence).
     assert low <= float(rectifier_efficiency(dbm, DEFAULT_RECTIFIER_CURVE, -60.0)) <= high
     peak = max(e for _, e in DEFAULT_RECTIFIER_CURVE)
     assert 0.70 <= peak <= 0.85
 
 
+@external_check(area="rf", quantity="36 dBm in watts", value="3.98107 W", source="definition of dBm (0 dBm = 1 mW)",
+                tolerance="1e-5 relative")
 def test_dbm_conversions():
     assert float(dbm_to_w(0.0)) == pytest.approx(1e-3)
     assert float(dbm_to_w(36.0)) == pytest.approx(3.98107, rel=1e-5)  # 4 W EIRP limit

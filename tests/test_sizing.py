@@ -9,6 +9,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from shared import BASE_SITE
+from validation import external_check
 
 from siteharvest import sizing
 from siteharvest.assess import prepare
@@ -84,6 +85,10 @@ def test_frontier_and_pick_without_monotonicity():
     assert frontier_and_pick(np.zeros((2, 2), dtype=bool)) == ([], None)
 
 
+@external_check(area="sizing", quantity="store sized for 5 days of autonomy at 80 % depth of discharge, no harvest",
+                value="capacity = daily load x days / (max DoD x derating); carries the load 5 days (120 h)",
+                source="IEEE 1562-2021 days-of-autonomy definition (rule from memory; the standard's scope checked)",
+                tolerance="exact hour")
 def test_days_of_autonomy_rule():
     """IEEE 1562-2021 days of autonomy: capacity = daily load x days / (max DoD x derating).
     A store so sized, full and with no harvest, carries a constant load exactly that many days."""

@@ -11,6 +11,7 @@ import pvlib
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from validation import external_check
 
 from siteharvest.synthetic_weather import (
     AGUIAR_K_MAX,
@@ -60,17 +61,26 @@ def mid_hour_sky() -> tuple[pd.DataFrame, pd.DataFrame]:
 # ------------------------------------------------------------------------------- Markov library
 
 
+@external_check(area="weather", quantity="row sums of the 10 Markov transition matrices of daily clearness",
+                value="1 (probabilities printed to 3 decimals)",
+                source="Aguiar, Collares-Pereira & Conde (1988), Solar Energy 40(3):269-279", tolerance="0.005")
 def test_every_matrix_row_sums_to_one():
-    # Aguiar, Collares-Pereira & Conde (1988): transition probabilities; references.md 8.1 test idea,
-    # +-0.005 for the rounding of the printed three-decimal values (catches the 1.53 typo row).
+    # Aguiar, Collares-Pereira & Conde (1988), Solar Energy 40(3):269-279: transition probabilities, so each
+    # row sums to 1, +-0.005 for the rounding of the printed three-decimal values (catches the 1.53 typo row).
     sums = AGUIAR_MATRICES.sum(axis=2)
     assert AGUIAR_MATRICES.shape == (10, 10, 10)
     assert np.all(np.abs(sums - 1.0) <= 0.005), np.argwhere(np.abs(sums - 1.0) > 0.005)
     assert np.all(AGUIAR_MATRICES >= 0.0)
 
 
+@external_check(area="weather", quantity="K_min and K_max of the 10 matrices",
+                value="K_min 0.031 ... 0.319, K_max 0.705 ... 0.865",
+                source="Aguiar, Collares-Pereira & Conde (1988), as in one open transcription of the paper's "
+                       "tables, not re-checked against the print (low confidence)",
+                tolerance="exact (against the transcription)")
 def test_state_ranges_as_listed_in_references():
-    # references.md 8.1 [L]: K_min / K_max of the 10 matrices as transcribed
+    # Aguiar, Collares-Pereira & Conde (1988): K_min / K_max of the 10 matrices as in one open transcription of
+    # the paper's tables, not re-checked against the print (low confidence)
     np.testing.assert_allclose(AGUIAR_K_MIN, [0.031, 0.058, 0.051, 0.052, 0.028, 0.053, 0.044, 0.085, 0.010, 0.319])
     np.testing.assert_allclose(AGUIAR_K_MAX, [0.705, 0.694, 0.753, 0.753, 0.807, 0.856, 0.818, 0.846, 0.842, 0.865])
 
@@ -104,8 +114,10 @@ def test_monthly_means_within_002_of_target():
     assert np.all(np.abs(monthly_means(kt) - targets) <= 0.02 + 1e-9)
 
 
+@external_check(area="weather", quantity="lag-1 autocorrelation of generated daily clearness",
+                value="typically 0.2-0.4", source="from memory, low confidence", tolerance="range 0.1-0.5")
 def test_lag1_autocorrelation_positive():
-    # references.md 8.1 [L]: lag-1 autocorrelation of daily K_T typically 0.2-0.4 (range check only)
+    # From memory, low confidence: lag-1 autocorrelation of daily K_T typically 0.2-0.4 (range check only)
     kt = daily_clearness(DEFAULT_MONTHLY_CLEARNESS, 50, seed=2)
     x = kt - np.repeat(monthly_means(kt), np.diff(MONTH_START_DAY), axis=1)
     rho = float((x[:, 1:] * x[:, :-1]).sum() / (x * x).sum())
@@ -156,8 +168,14 @@ def test_500_years_fast():
 # ------------------------------------------------------------------------------- hourly year
 
 
+@external_check(area="sun", quantity="daily extraterrestrial irradiation on the horizontal, 43 N, 15 April",
+                value="33.77 MJ/m2 (book: 33.8)",
+                source="Duffie & Beckman, Solar Engineering of Thermal Processes, 3rd ed. (2006, G_sc 1367 W/m2), "
+                       "Example 1.10.1 (numbering from memory), recomputed with the book's formulas",
+                tolerance="0.005 MJ/m2")
 def test_daily_extraterrestrial_duffie_beckman_example():
-    # references.md 7.2 [C]: Duffie & Beckman example 1.10.1, phi = 43 deg, 15 April (n = 105):
+    # Duffie & Beckman, Solar Engineering of Thermal Processes, 3rd ed. (2006), Example 1.10.1 (numbering from
+    # memory), recomputed with the book's formulas: phi = 43 deg, 15 April (n = 105):
     # Cooper declination 9.4 deg, G_sc 1367 W/m2 -> H0 = 33.77 MJ/m2 (book 33.8)
     n = 105
     declination = 23.45 * np.sin(np.radians(360.0 * (284 + n) / 365.0))
@@ -209,6 +227,8 @@ def test_beam_and_diffuse_close_on_global(year, mid_hour_sky):
     assert np.all(year["dni_w_m2"] <= 1400)
 
 
+@external_check(area="weather", quantity="annual GHI of the default synthetic year (temperate inland site)",
+                value="1000-1400 kWh/m2", source="common practice (sanity bound)", tolerance="range")
 def test_realised_daily_clearness_follows_the_chain(year):
     # days below the clear-sky cap get exactly K_T * H0 (Duffie & Beckman eq. 1.10.3 for H0)
     spec = SyntheticWeatherSpec()

@@ -11,6 +11,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pydantic import ValidationError
 from scipy.optimize import minimize_scalar
+from validation import external_check
 
 from siteharvest.context import SpotContext
 from siteharvest.errors import SiteInputError
@@ -60,8 +61,14 @@ def ctx() -> SpotContext:
 
 
 @pytest.mark.parametrize(("delta_t_k", "expected_mw"), [(1, 0.323), (2, 1.29), (5, 8.06), (10, 32.3)])
+@external_check(area="thermoelectric", quantity="matched-load power of a 127-couple module, alpha = 0.0508 V/K, "
+                                            "R = 2 ohm, dT = 1, 2, 5, 10 K",
+                value="0.323, 1.29, 8.06, 32.3 mW",
+                source="P = (alpha dT)^2 / (4 R) (Rowe (ed.), CRC Handbook of Thermoelectrics, 1995), worked by hand",
+                tolerance="0.2 % (3 significant figures)")
 def test_matched_load_power_hand_computed(delta_t_k, expected_mw):
-    # references.md 2.2 [C]: 127-couple module, alpha = 0.0508 V/K, R = 2 ohm, P = (alpha dT)^2 / (4R);
+    # Matched load P = (alpha dT)^2 / (4R) (Rowe (ed.), CRC Handbook of Thermoelectrics, 1995), worked by hand
+    # for a 127-couple module (127 x 0.4 mV/K = 0.0508 V/K), R = 2 ohm;
     # by hand for 10 K: (0.508 V)^2 / 8 ohm = 32.258 mW.
     p_w = matched_load_power_w(0.0508, delta_t_k, 2.0)
     assert p_w * 1e3 == pytest.approx(expected_mw, rel=0.002)  # quoted to 3 significant figures
@@ -92,9 +99,16 @@ def test_matched_load_power_properties(alpha, r, dt, k):
     (310.0, 300.0, 1.0, 0.56), (373.0, 298.0, 1.0, 3.76), (373.0, 298.0, 0.7, 2.91),
     (323.0, 298.0, 1.0, 1.37),
 ])
+@external_check(area="thermoelectric", quantity="maximum efficiency: (310, 300 K, ZT 1), (373, 298 K, ZT 1), "
+                                            "(373, 298 K, ZT 0.7), (323, 298 K, ZT 1)",
+                value="0.56, 3.76, 2.91, 1.37 %",
+                source="Ioffe 1957; Rowe (ed.), CRC Handbook of Thermoelectrics, 1995; Snyder & Toberer 2008, "
+                       "Nature Materials 7:105-114; values worked from the formula",
+                tolerance="0.006 percentage points")
 def test_max_efficiency_ioffe(t_hot, t_cold, zt, expected_pct):
     # Ioffe 1957; Rowe (ed.), CRC Handbook of Thermoelectrics, 1995:
-    # eta = (dT/Th)(sqrt(1+ZT)-1)/(sqrt(1+ZT)+Tc/Th); check values references.md 2.1 [C] (2 decimals, %).
+    # eta = (dT/Th)(sqrt(1+ZT)-1)/(sqrt(1+ZT)+Tc/Th) (also Snyder & Toberer 2008, Nature Materials 7:105-114);
+    # check values worked out from it (2 decimals, %).
     assert float(max_efficiency(zt, t_hot, t_cold)) * 100 == pytest.approx(expected_pct, abs=0.006)
     # and the formula evaluated here independently
     root = math.sqrt(1 + zt)
@@ -102,6 +116,8 @@ def test_max_efficiency_ioffe(t_hot, t_cold, zt, expected_pct):
     assert float(max_efficiency(zt, t_hot, t_cold)) == pytest.approx(independent, rel=1e-12)
 
 
+@external_check(area="thermoelectric", quantity="maximum efficiency as ZT -> infinity, 373 / 298 K",
+                value="Carnot, 1 - 298/373 = 20.1 %", source="second law (Carnot limit)", tolerance="1e-12 relative")
 def test_max_efficiency_limits():
     carnot = (373.0 - 298.0) / 373.0
     assert float(max_efficiency(0.0, 373.0, 298.0)) == 0.0  # ZT -> 0: no conversion
@@ -116,21 +132,33 @@ def test_max_efficiency_limits():
         max_efficiency(1.0, 298.0, 373.0)
 
 
+@external_check(area="thermoelectric", quantity="ZT at 300 K of every module preset",
+                value="0.7-1.0 for bulk bismuth telluride",
+                source="Snyder & Toberer 2008, Nature Materials 7:105-114 (from memory)", tolerance="range 0.6-1.0")
+@external_check(area="thermoelectric", quantity="ZT at 300 K for alpha = 0.0508 V/K, R = 2 ohm, K = 0.5 W/K",
+                value="0.77", source="Z = alpha^2 / (R K) (Rowe (ed.) 1995), worked by hand", tolerance="0.005")
 def test_preset_figure_of_merit_is_typical():
-    # references.md 2.2 [M]: bulk bismuth telluride ZT near 300 K is 0.7-1.0 (Snyder & Toberer 2008).
+    # Snyder & Toberer 2008, Nature Materials 7:105-114 (from memory, range only): bulk bismuth telluride ZT
+    # near 300 K is 0.7-1.0.
     for name, p in MODULE_PRESETS.items():
         zt = float(figure_of_merit_zt(p["seebeck_v_k"], p["resistance_ohm"],
                                       p["module_thermal_resistance_k_w"], 300.0))
         assert 0.6 <= zt <= 1.0, name
-    # references.md 2.2 [C]: alpha = 0.0508 V/K, R = 2 ohm, K = 0.5 W/K -> ZT(300 K) = 0.77
+    # Z = alpha^2 / (R K), by hand: alpha = 0.0508 V/K, R = 2 ohm, K = 0.5 W/K -> ZT(300 K) = 0.77
     assert float(figure_of_merit_zt(0.0508, 2.0, 2.0, 300.0)) == pytest.approx(0.77, abs=0.005)
 
 
 # ---------------------------------------------------------------- thermal network and matching
 
 
+@external_check(area="thermoelectric", quantity="module temperature difference in a series thermal network, "
+                                            "60 K, R_TEG 2 K/W, R_ext 4 K/W",
+                value="20 K", source="series thermal resistances (Incropera & DeWitt, Fundamentals of Heat and Mass "
+                                     "Transfer), Peltier and Joule terms neglected; by hand",
+                tolerance="1e-12 relative")
 def test_module_delta_t_is_divider():
-    # Series network (references.md 2.3): dT_TEG = dT R_TEG / (R_TEG + R_ext); 60 K * 2 / (2 + 4) = 20 K.
+    # Series thermal network (Incropera & DeWitt, Fundamentals of Heat and Mass Transfer; Peltier and Joule
+    # terms neglected): dT_TEG = dT R_TEG / (R_TEG + R_ext); 60 K * 2 / (2 + 4) = 20 K.
     assert float(module_delta_t_k(60.0, 2.0, 4.0)) == pytest.approx(20.0, rel=1e-12)
 
 
@@ -143,6 +171,11 @@ def _power_vs_module_resistance(r_module, r_ext, delta_t=50.0, alpha=0.0508, ohm
 
 
 @pytest.mark.parametrize("r_ext", [0.7, 3.0, 12.0])
+@external_check(area="thermoelectric", quantity="module thermal resistance that maximises power, fixed R_ext",
+                value="R_module = R_ext; then P = alpha^2 dT^2 / (16 R_int)",
+                source="Stevens 2001, Energy Conversion & Management 42:709-720; Leonov 2013, IEEE Sensors J. "
+                       "13(6):2284-2291 (from memory; the optimum found numerically here)",
+                tolerance="1e-3 relative (optimum); 1e-12 (power)")
 def test_thermal_matching_optimum_at_external_resistance(r_ext):
     # Stevens 2001, Energy Conversion & Management 42:709-720; Freunek et al. 2009, J. Electronic Materials
     # 38(7):1214 (from memory): with fixed R_ext, power peaks at R_module = R_ext (Peltier neglected).
@@ -150,7 +183,8 @@ def test_thermal_matching_optimum_at_external_resistance(r_ext):
                           method="bounded", options={"xatol": 1e-7})
     assert res.x == pytest.approx(r_ext, rel=1e-3)
     assert thermal_match(r_ext * 0.25, r_ext * 0.75) == pytest.approx(r_ext, rel=1e-12)
-    # references.md 2.3 [M]: at the optimum dT_module = dT/2 and P = alpha^2 dT^2 / (16 R_int).
+    # Stevens 2001; Leonov 2013, IEEE Sensors J. 13(6):2284-2291 (from memory; follows from the divider and the
+    # matched load): at the optimum dT_module = dT/2 and P = alpha^2 dT^2 / (16 R_int).
     p_opt = _power_vs_module_resistance(r_ext, r_ext)
     assert p_opt == pytest.approx(0.0508**2 * 50.0**2 / (16 * r_ext), rel=1e-12)
 
@@ -165,8 +199,13 @@ def test_thermal_matching_with_peltier_feedback():
     assert res.x > r_ext
 
 
+@external_check(area="thermoelectric", quantity="linearised radiation coefficient at 300 K, eps = 1 and 0.9",
+                value="6.12 and 5.51 W/m2K (4 eps sigma T^3)",
+                source="net exchange eps sigma (Ts^4 - Tsur^4) (Incropera & DeWitt); sigma CODATA 2018; by hand",
+                tolerance="0.005 W/m2K")
 def test_radiation_coefficient():
-    # references.md 2.3 [C]: h_rad = 4 eps sigma T^3 = 6.12 W/m2K at 300 K, eps = 1 (5.51 at eps = 0.9).
+    # Linearised radiation h_rad = 4 eps sigma T^3 (net exchange eps sigma (Ts^4 - Tsur^4), Incropera & DeWitt;
+    # sigma CODATA 2018), by hand: 6.12 W/m2K at 300 K, eps = 1 (5.51 at eps = 0.9).
     assert float(radiation_w_m2k(1.0, 300.0, 300.0)) == pytest.approx(6.12, abs=0.005)
     assert float(radiation_w_m2k(0.9, 300.0, 300.0)) == pytest.approx(5.51, abs=0.005)
     # exact net exchange: h (Ts - Tsur) = eps sigma (Ts^4 - Tsur^4)
@@ -175,6 +214,9 @@ def test_radiation_coefficient():
         0.8 * sigma * (350.0**4 - 290.0**4), rel=1e-12)
 
 
+@external_check(area="thermoelectric", quantity="air at 300 K, 1 atm: k, nu, Pr",
+                value="0.0263 W/mK, 15.89e-6 m2/s, 0.707",
+                source="Incropera & DeWitt, Table A.4 (from memory)", tolerance="3 % (range)")
 def test_air_properties_near_tables():
     # Incropera & DeWitt, Table A.4 (air at 300 K, 1 atm), from memory [M]: k = 0.0263 W/mK,
     # nu = 15.89e-6 m2/s, Pr = 0.707. Range check (3 %).
@@ -185,15 +227,23 @@ def test_air_properties_near_tables():
 
 
 @pytest.mark.parametrize(("dt", "height"), [(10.0, 0.1), (30.0, 0.05), (5.0, 0.3)])
+@external_check(area="thermoelectric", quantity="laminar free convection on a vertical plate in air",
+                value="h = 1.42 (dT/L)^0.25, e.g. 4.49 W/m2K at dT = 10 K, L = 0.1 m",
+                source="Holman, Heat Transfer, Table 7-2 (from memory)", tolerance="15 % (range)")
+@external_check(area="thermoelectric", quantity="free convection coefficient in gases", value="2-25 W/m2K",
+                source="Incropera & DeWitt, Table 1.1 (from memory)", tolerance="range")
 def test_vertical_plate_convection_near_simplified_air_formula(dt, height):
     # Holman, Heat Transfer, Table 7-2 [M]: laminar vertical plate in air h = 1.42 (dT/L)^0.25;
-    # e.g. dT = 10 K, L = 0.1 m -> 4.49 W/m2K (references.md 2.3). Range check +-15 %.
+    # e.g. dT = 10 K, L = 0.1 m -> 1.42 x 100^0.25 = 4.49 W/m2K. Range check +-15 %.
     h = float(vertical_plate_convection_w_m2k(dt, height, 20.0))
     assert h == pytest.approx(1.42 * (dt / height) ** 0.25, rel=0.15)
     # Incropera Table 1.1 [M]: free convection in gases 2-25 W/m2K
     assert 2.0 <= h <= 25.0
 
 
+@external_check(area="thermoelectric", quantity="sink resistance of a small finned sink (150 cm2, 40 mm) in still air",
+                value="about 5-15 K/W", source="from memory, low confidence (no single source)",
+                tolerance="range 3-15 K/W")
 def test_network_solution_is_self_consistent():
     sink = HeatSink(area_cm2=120.0, height_mm=60.0, emissivity=0.9)
     dt = np.array([5.0, 40.0, 120.0, -30.0])
@@ -204,7 +254,8 @@ def test_network_solution_is_self_consistent():
                                                                                air + 273.15)
     np.testing.assert_allclose(r_sink, 1.0 / (120e-4 * h), rtol=1e-9)
     np.testing.assert_allclose(heat, dt / (2.5 + r_sink), rtol=1e-12)
-    # a small sink in still air: references.md 2.3 [L] small finned sink 5-15 K/W
+    # a small sink in still air: a small (40 x 40 x 20 mm) finned sink is about 5-15 K/W (from memory, low
+    # confidence; range only)
     r_small, _ = solve_thermal_network(np.array([40.0]), np.array([20.0]), 2.0,
                                        HeatSink(area_cm2=150.0, height_mm=40.0))
     assert 3.0 <= float(r_small[0]) <= 15.0
@@ -245,6 +296,9 @@ def test_series_and_parallel_same_power(ctx):
     np.testing.assert_allclose(parallel.voltage_v, one.voltage_v, rtol=1e-12)
 
 
+@external_check(area="thermoelectric", quantity="module on a hot surface, ~100 K across the assembly",
+                value="of the order of 10 mW/cm2 of module area", source="common practice (sanity bound)",
+                tolerance="1-100 mW/cm2")
 def test_magnitude_large_difference(ctx):
     # Common practice [CP]: a module on a hot surface with ~100 K across the assembly gives of the order
     # of 10 mW/cm2 of module area. Sanity bound 1..100 mW/cm2 with a plain natural-convection sink.
@@ -253,7 +307,7 @@ def test_magnitude_large_difference(ctx):
     out = thermoelectric_output(spec, ctx)
     mw_per_cm2 = out.power_w[0] * 1e3 / (spec.module_side_mm / 10.0) ** 2
     assert 1.0 <= mw_per_cm2 <= 100.0
-    # and a small dT gives far less: references.md 2.2 [C] scale, P ~ dT^2
+    # and a small dT gives far less: P ~ dT^2 (matched load, above)
     small = thermoelectric_output(spec.model_copy(update={"hot_side": ConstantHotSide(surface_c=25.0)}), ctx)
     assert small.power_w[0] < out.power_w[0] / 100
 

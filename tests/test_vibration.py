@@ -1,8 +1,9 @@
 """Vibration source: resonant-generator physics, rectifier interface, survey spectra and the yearly yield.
 
-Check values come from references.md section 3 (Williams & Yates 1996; Roundy, Wright & Rabaey 2003;
-Mitcheson et al. 2004; ISO 10816-3; Roundy & Wright 2004; Vullers et al. 2009), from derivations
-done in the test (phasor solution of the base-excited oscillator) or from scipy's numerics.
+Check values come from the publications named beside each check (Williams & Yates 1996; Roundy, Wright &
+Rabaey 2003; Mitcheson et al. 2004; ISO 10816-3; Roundy & Wright 2004; Vullers et al. 2009), from derivations
+done in the test (phasor solution of the base-excited oscillator) or from scipy's numerics; docs/validation.md
+lists them (generated from the ``external_check`` records).
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from hypothesis import strategies as st
 from pydantic import ValidationError
 from scipy.integrate import quad
 from scipy.optimize import brentq, minimize_scalar
+from validation import external_check
 
 from siteharvest.context import SpotContext
 from siteharvest.errors import SiteInputError
@@ -89,8 +91,15 @@ def phasor_power_w(m, a_pk, f, fn, zm, ze) -> float:
 # ------------------------------------------------------------------------- Williams & Yates generator
 
 
+@external_check(area="vibration", quantity="power at resonance: m = 10 g, A = 2.5 m/s2, f_n = 120 Hz, zeta_e = 0.02, "
+                                       "zeta_m = 0.015",
+                value="338.34 uW (m zeta_e A^2 / (4 omega_n zeta_T^2), by hand)",
+                source="Williams & Yates 1996, Sensors and Actuators A 52:8-11; split damping Roundy, Wright & "
+                       "Rabaey 2003, Computer Communications 26:1131-1144",
+                tolerance="1e-4 relative")
 def test_power_at_resonance_hand_case():
-    # references.md 3.1 (Williams & Yates 1996; split damping Roundy et al. 2003):
+    # Williams & Yates 1996, Sensors and Actuators A 52:8-11; split damping Roundy, Wright & Rabaey 2003,
+    # Computer Communications 26:1131-1144:
     # P = m zeta_e A^2 / (4 omega_n (zeta_e + zeta_m)^2). By hand: m = 10 g, A = 2.5 m/s2, f_n = 120 Hz,
     # zeta_e = 0.02, zeta_m = 0.015: 0.01*0.02*6.25 / (4 * 753.982 * 0.035^2) = 1.25e-3 / 3.69451 = 338.34 uW.
     p = resonant_power_w(0.01, 2.5, 120.0, 120.0, 0.015, 0.02)
@@ -98,11 +107,17 @@ def test_power_at_resonance_hand_case():
     assert p == pytest.approx(phasor_power_w(0.01, 2.5, 120.0, 120.0, 0.015, 0.02), rel=1e-12)
 
 
+@external_check(area="vibration", quantity="electrical power of the base-excited resonant generator, any detuning",
+                value="m zeta_e Y0^2 r^3 omega^3 / [(1 - r^2)^2 + (2 zeta_T r)^2]",
+                source="Williams & Yates 1996 with split damping (Roundy et al. 2003); also the phasor solution "
+                       "derived in the test",
+                tolerance="1e-9 relative, over hypothesis-drawn inputs")
 @settings(max_examples=60, deadline=None)
 @given(r=st.floats(0.05, 5.0), fn=st.floats(1.0, 1000.0), zm=st.floats(1e-4, 0.2), ze=st.floats(0.0, 0.2),
        m=st.floats(1e-4, 1.0), a=st.floats(1e-3, 100.0))
 def test_general_form_matches_phasor_solution_and_reference_form(r, fn, zm, ze, m, a):
-    # references.md 3.1: P_e = m zeta_e Y0^2 r^3 omega^3 / [(1-r^2)^2 + (2 zeta_T r)^2] with A = omega^2 Y0;
+    # Williams & Yates 1996 with split damping (Roundy et al. 2003):
+    # P_e = m zeta_e Y0^2 r^3 omega^3 / [(1-r^2)^2 + (2 zeta_T r)^2] with A = omega^2 Y0;
     # checked against the phasor solution of the base-excited oscillator (derived here).
     f = r * fn
     w = 2 * math.pi * f
@@ -117,8 +132,13 @@ def test_general_form_matches_phasor_solution_and_reference_form(r, fn, zm, ze, 
     assert displacement_m(a, f, fn, zm + ze) == pytest.approx(z, rel=1e-9)
 
 
+@external_check(area="vibration", quantity="electrical damping that maximises power, and that power",
+                value="zeta_e = zeta_m; P_max = m A^2 / (16 omega_n zeta_m)",
+                source="Roundy, Wright & Rabaey 2003 (from memory, high confidence; optimum found numerically here)",
+                tolerance="1e-4 relative (optimum); 1e-9 (power)")
 def test_optimum_electrical_damping_equals_mechanical():
-    # references.md 3.1 [M, high confidence]: maximised at zeta_e = zeta_m, P_max = m A^2 / (16 omega_n zeta_m).
+    # Roundy, Wright & Rabaey 2003 (from memory, high confidence; confirmed numerically here): maximised at
+    # zeta_e = zeta_m, P_max = m A^2 / (16 omega_n zeta_m).
     m, a, fn, zm = 0.008, 2.5, 120.0, 0.015
     res = minimize_scalar(lambda ze: -resonant_power_w(m, a, fn, fn, zm, ze), bounds=(1e-5, 0.5),
                           method="bounded", options={"xatol": 1e-10})
@@ -131,14 +151,22 @@ def test_optimum_electrical_damping_equals_mechanical():
 @settings(max_examples=50, deadline=None)
 @given(fn=st.floats(1.0, 2000.0), k=st.floats(1.1, 10.0), zm=st.floats(1e-3, 0.1), ze=st.floats(1e-3, 0.1))
 def test_power_scales_as_one_over_omega_at_fixed_acceleration(fn, k, zm, ze):
-    # references.md 3.1: P = m zeta_e A^2 / (4 omega_n zeta_T^2) -> at fixed A, P ~ 1/omega_n.
+    # Williams & Yates 1996 / Roundy et al. 2003: P = m zeta_e A^2 / (4 omega_n zeta_T^2), so at fixed A,
+    # P ~ 1/omega_n.
     p1 = resonant_power_w(0.005, 1.0, fn, fn, zm, ze)
     p2 = resonant_power_w(0.005, 1.0, k * fn, k * fn, zm, ze)
     assert p2 / p1 == pytest.approx(1 / k, rel=1e-9)
 
 
+@external_check(area="vibration", quantity="half-power bandwidth of the loaded harvester, zeta_m = zeta_e = 0.01, "
+                                       "50 Hz",
+                value="2 Hz (Q_L = 1/(4 zeta_m) = 25)",
+                source="lightly damped oscillator, Q = 1/(2 zeta), bandwidth f_n / Q (Rao, Mechanical Vibrations; "
+                       "from memory, confirmed numerically on the power curve here)",
+                tolerance="1e-6 relative")
 def test_half_power_bandwidth_from_the_power_curve():
-    # references.md 3.2 [M / numerically confirmed C]: zeta_m = 0.01 -> Q_m = 50, Q_L = 1/(4 zeta_m) = 25,
+    # Lightly damped oscillator, Q = 1/(2 zeta), bandwidth f_n / Q (Rao, Mechanical Vibrations; from memory,
+    # confirmed numerically here): zeta_m = 0.01 -> Q_m = 50, Q_L = 1/(4 zeta_m) = 25,
     # bandwidth f_n / Q_L = 2 Hz at 50 Hz; half-power points near f_n (1 +/- zeta_T).
     m, a, fn, zm, ze = 0.005, 1.0, 50.0, 0.01, 0.01
     p_max = resonant_power_w(m, a, fn, fn, zm, ze)
@@ -153,7 +181,8 @@ def test_half_power_bandwidth_from_the_power_curve():
 
 
 def test_displacement_at_resonance():
-    # references.md 3.1: at resonance |z| = Y0 / (2 zeta_T), Y0 = A / omega^2.
+    # Base-excited oscillator of Williams & Yates 1996 (derived): at resonance |z| = Y0 / (2 zeta_T),
+    # Y0 = A / omega^2.
     a, fn, zt = 3.0, 80.0, 0.025
     y0 = a / (2 * math.pi * fn) ** 2
     assert displacement_m(a, fn, fn, zt) == pytest.approx(y0 / (2 * zt), rel=1e-12)
@@ -162,8 +191,14 @@ def test_displacement_at_resonance():
 # -------------------------------------------------------------------------------- travel limit
 
 
+@external_check(area="vibration", quantity="power of a travel-limited generator as parasitic damping -> 0",
+                value="1/2 m Y0 Z_l omega^3",
+                source="Mitcheson et al. 2004, J. MEMS 13(3):429-440 (from memory; the form with parasitic "
+                       "damping, m zeta_e omega^3 Z_l^2, derived here)",
+                tolerance="1e-3 relative (1e-6 for the derived form)")
 def test_travel_limit_caps_power(ctx):
-    # references.md 3.1 (Mitcheson et al. 2004, derivation [C]): damping chosen so |z| = Z_l at resonance,
+    # Mitcheson et al. 2004, J. MEMS 13(3):429-440 (bound from memory; the form with parasitic damping derived
+    # here): damping chosen so |z| = Z_l at resonance,
     # zeta_T = Y0 / (2 Z_l), gives P_e = m zeta_e omega^3 Z_l^2 <= 1/2 m Y0 Z_l omega^3, equal as zeta_m -> 0.
     m, a_pk, f, z_l, zm = 0.005, 10.0, 70.0, 0.5e-3, 0.01
     w = 2 * math.pi * f
@@ -186,7 +221,7 @@ def test_travel_limit_caps_power(ctx):
 
 
 def test_travel_limit_not_hit_leaves_optimum(ctx):
-    # references.md 3.1: without a limit the optimum m A^2 / (16 omega_n zeta_m) stands.
+    # Roundy et al. 2003: without a limit the optimum m A^2 / (16 omega_n zeta_m) stands.
     spec = ideal_source(peak=[tone(120.0, 2.5)], resonant_frequency_hz=120.0, proof_mass_g=5.0,
                         mechanical_damping_ratio=0.015, travel_limit_mm=5.0)
     out = vibration_output(spec, ctx)
@@ -197,9 +232,14 @@ def test_travel_limit_not_hit_leaves_optimum(ctx):
 # -------------------------------------------------------------------------------- plausibility
 
 
+@external_check(area="vibration", quantity="1 cm3-class harvester (5 g, zeta_m 0.015) at 2.5 m/s2, 120 Hz, "
+                                       "through the rectifier",
+                value="~375 uW/cm3 (piezo bimorph)",
+                source="Roundy & Wright 2004, Smart Mater. Struct. 13:1131-1142 (from memory)",
+                tolerance="factor 5 (range)")
 def test_plausible_against_roundy_wright_2004(ctx):
-    # references.md 3.4 [M]: ~375 uW/cm3 for a 1 cm3 piezo bimorph at 2.5 m/s2, 120 Hz (Roundy & Wright
-    # 2004, Smart Mater. Struct. 13). From memory: range check within a factor 5 only, for a 1 cm3-class
+    # ~375 uW/cm3 for a 1 cm3 piezo bimorph at 2.5 m/s2, 120 Hz (Roundy & Wright
+    # 2004, Smart Mater. Struct. 13:1131-1142). From memory: range check within a factor 5 only, for a 1 cm3-class
     # harvester with a 5 g proof mass and zeta_m = 0.015, through the real rectifier and diodes.
     spec = VibrationSource(id="pz", peak=[tone(120.0, 2.5)], resonant_frequency_hz=120.0, proof_mass_g=5.0,
                            mechanical_damping_ratio=0.015, open_circuit_v_per_m_s2=5.0)
@@ -207,16 +247,25 @@ def test_plausible_against_roundy_wright_2004(ctx):
     assert 375 / 5 <= p_uw <= 375 * 5
 
 
+@external_check(area="vibration", quantity="5 g harvester tuned to a 50 Hz machine at the ISO B/C boundary",
+                value="10 uW .. 1 mW (industrial vibration ~100 uW/cm2)",
+                source="Vullers et al. 2009, Solid-State Electronics 53:684-693 (from memory) and common practice",
+                tolerance="range")
 def test_plausible_for_a_healthy_machine(ctx):
-    # references.md 3.4 [M]/[CP]: industrial vibration ~100 uW/cm2 (Vullers et al. 2009); as a sanity bound a
+    # Vullers et al. 2009 (from memory): industrial vibration ~100 uW/cm2; as a (common-practice) sanity bound a
     # 1 cm3-class harvester (5 g) tuned to a machine at the ISO B/C boundary gives 10 uW .. 1 mW.
     spec = VibrationSource(id="pump", preset="healthy-pump-50hz", resonant_frequency_hz=50.0)
     p_uw = running_w(spec, ctx) * 1e6
     assert 10 <= p_uw <= 1000
 
 
+@external_check(area="vibration", quantity="RMS acceleration of the ISO 10816-3 B/C boundary at 50 Hz",
+                value="0.88 m/s2 (2 pi x 50 Hz x 2.8 mm/s)",
+                source="ISO 10816-3 zone boundary 2.8 mm/s RMS (from memory); a = 2 pi f v for a sinusoid, by hand",
+                tolerance="0.005 m/s2")
 def test_iso_preset_conversion():
-    # references.md 3.3 [C]: a_rms = 2 pi f v_rms: 2.8 mm/s at 50 Hz -> 0.88 m/s2 RMS.
+    # ISO 10816-3 zone B/C boundary 2.8 mm/s RMS (from memory); a_rms = 2 pi f v_rms for a sinusoid, by hand:
+    # 2.8 mm/s at 50 Hz -> 0.88 m/s2 RMS.
     spec = VibrationSource(id="p", preset="healthy-pump-50hz")
     assert spec.peak[0].measure == "rms"
     assert spec.peak[0].accel_rms_m_s2 == pytest.approx(0.88, abs=0.005)
@@ -242,8 +291,12 @@ def test_preset_values_are_editable():
 # -------------------------------------------------------------------------------- rectifier
 
 
+@external_check(area="vibration", quantity="rectified power of the standard interface against reservoir voltage",
+                value="P ~ V_dc (V_oc - V_dc), largest at V_oc / 2 where it equals the matched power",
+                source="Ottman et al. 2002; Guyomar et al. 2005 (optimum found numerically here)",
+                tolerance="1e-5 relative")
 def test_rectifier_interface_peaks_at_half_open_circuit_voltage():
-    # references.md 3.1 / Ottman et al. 2002, Guyomar et al. 2005: standard interface P ~ V_dc (V_oc - V_dc),
+    # Ottman et al. 2002, Guyomar et al. 2005: standard interface P ~ V_dc (V_oc - V_dc),
     # maximal at V_dc = V_oc / 2 (ideal diodes), where it equals the matched power.
     p, v_oc = 1e-4, 6.0
     res = minimize_scalar(lambda v: -rectified_power_w(p, v_oc, v, diode_drop_v=0.0)[1], bounds=(0.01, 5.99),
@@ -358,6 +411,9 @@ def test_peaks_add(ctx):
     assert running_w(both, ctx) == pytest.approx(running_w(p1, ctx) + running_w(p2, ctx), rel=1e-12)
 
 
+@external_check(area="vibration", quantity="1 g peak in m/s2 RMS", value="9.80665 / sqrt 2 m/s2",
+                source="standard gravity, 3rd CGPM (1901); crest factor sqrt 2 of a sinusoid",
+                tolerance="1e-12 relative (power), 1e-6 (value)")
 def test_units_and_measures_of_peaks(ctx):
     # 1 g peak = 9.80665 m/s2 peak = 9.80665/sqrt(2) m/s2 RMS (3rd CGPM 1901; sinusoid crest factor sqrt 2)
     a = ideal_source(peak=[tone(80.0, 0.1, "peak", "g")], resonant_frequency_hz=80.0)
@@ -381,7 +437,7 @@ def test_schedule_and_running_fraction(ctx):
 
 
 def test_notes_on_detuned_peak(ctx):
-    # zeta_m = zeta_e = 0.01 at 50 Hz: bandwidth 2 Hz (references.md 3.2); a 48 Hz peak sits 1 bandwidth off.
+    # zeta_m = zeta_e = 0.01 at 50 Hz: bandwidth 2 zeta_T f_n = 2 Hz; a 48 Hz peak sits 1 bandwidth off.
     spec = ideal_source(peak=[tone(48.0, 1.0)], resonant_frequency_hz=50.0, mechanical_damping_ratio=0.01)
     out = vibration_output(spec, ctx)
     note = next(n for n in out.notes if n.startswith("Peak at 48 Hz"))
@@ -409,7 +465,7 @@ def test_untuned_harvester_takes_strongest_peak(ctx):
        fn=st.floats(5.0, 400.0), zm=st.floats(0.002, 0.1), mass_g=st.floats(0.5, 100.0),
        limit_mm=st.floats(0.05, 5.0), drift=st.floats(0.0, 5.0))
 def test_running_power_bounds_and_mass_scaling(freqs, accels, fn, zm, mass_g, limit_mm, drift):
-    # bound: each component gives at most m A^2 / (16 omega_n zeta_m) (references.md 3.1), whatever the
+    # bound: each component gives at most m A^2 / (16 omega_n zeta_m) (Roundy et al. 2003), whatever the
     # detuning, drift or travel limit; with ideal diodes the power is proportional to the proof mass
     # (the travel limit fixes zeta_e independently of m).
     a = np.array(accels[: len(freqs)])
@@ -433,18 +489,23 @@ def write(tmp_path, name, text):
     return path
 
 
+@external_check(area="vibration", quantity="velocity line 2.8 mm/s RMS at 50 Hz as acceleration",
+                value="0.8796 m/s2 RMS", source="a = 2 pi f v for a sinusoid, by hand", tolerance="1e-4 m/s2")
 def test_amplitude_spectrum_units(tmp_path):
     path = write(tmp_path, "amp.csv", "# survey\nfrequency_hz,accel\n10,0.5\n50,1.0\n100,0.2\n")
     f, a = read_spectrum_csv(path, "amplitude", "g", "peak")
     assert np.array_equal(f, [10, 50, 100])
     assert np.allclose(a, np.array([0.5, 1.0, 0.2]) * STANDARD_GRAVITY_M_S2 / math.sqrt(2))
     assert STANDARD_GRAVITY_M_S2 == G
-    # velocity spectra in mm/s RMS: a = 2 pi f v (references.md 3.3)
+    # velocity spectra in mm/s RMS: a = 2 pi f v (sinusoid)
     vel = write(tmp_path, "vel.csv", "Freq;Velocity\n50;2.8\n")
     f, a = read_spectrum_csv(vel, "amplitude", "mm/s", "rms", frequency_column="freq", value_column="velocity")
     assert a[0] == pytest.approx(0.8796, abs=1e-4)
 
 
+@external_check(area="vibration", quantity="mean square of a flat 0.01 g^2/Hz PSD over 10-100 Hz (181 lines of 0.5 Hz)",
+                value="0.01 g^2/Hz x 90.5 Hz", source="Parseval's theorem (Bendat & Piersol)",
+                tolerance="1e-12 relative")
 def test_psd_to_rms_per_bin_and_parseval(tmp_path):
     # a_rms per bin = sqrt(PSD df); the sum of squares is the mean square, integral of the PSD (Parseval;
     # Bendat & Piersol). Flat 0.01 g^2/Hz on 10..100 Hz at 0.5 Hz lines: 181 bins of 0.5 Hz = 90.5 Hz.

@@ -13,6 +13,7 @@ import pandas as pd
 import pvlib
 import pytest
 from pydantic import ValidationError
+from validation import external_check
 
 from siteharvest.errors import SiteInputError
 from siteharvest.timegrid import HOURS_PER_YEAR, reference_index
@@ -44,6 +45,10 @@ def tmy3_year() -> tuple[pd.DataFrame, object]:
 # ---------------------------------------------------------------------------------------------- TMY3
 
 
+@external_check(area="weather", quantity="TMY3 723170 read by our reader: station line and hourly columns",
+                value="TZ -5, 36.1 N, 79.95 W, 273 m; GHI, DNI, dry-bulb as in the file",
+                source="TMY3 723170TYA.CSV shipped with pvlib 0.16.1, read a second time with plain pandas",
+                tolerance="exact")
 def test_tmy3_loads_to_8760_hour_start_rows(tmy3_year, tmy3_raw):
     frame, meta = tmy3_year
     assert len(frame) == HOURS_PER_YEAR
@@ -59,6 +64,9 @@ def test_tmy3_loads_to_8760_hour_start_rows(tmy3_year, tmy3_raw):
     np.testing.assert_array_equal(frame["temp_air_c"].to_numpy(), tmy3_raw["Dry-bulb (C)"].to_numpy())
 
 
+@external_check(area="weather", quantity="time label of TMY3 rows", value="hour ending, local standard time",
+                source="Wilcox & Marion 2008, Users Manual for TMY3 Data Sets, NREL/TP-581-43156",
+                tolerance="exact (row 13:00 is our 12:00)")
 def test_tmy3_timestamps_shift_by_one_hour(tmy3_year, tmy3_raw):
     frame, _ = tmy3_year
     # the row labelled 06/21/yyyy 13:00 (hour ending) is our 2025-06-21 12:00 (hour start)
@@ -73,6 +81,8 @@ def test_tmy3_timestamps_shift_by_one_hour(tmy3_year, tmy3_raw):
     assert frame.loc[pd.Timestamp("2025-06-21 12:00", tz="UTC-05:00"), "ghi_w_m2"] > 300
 
 
+@external_check(area="weather", quantity="annual GHI of a south-eastern US site (TMY3 723170)",
+                value="roughly 1400-1900 kWh/m2", source="common practice (sanity bound)", tolerance="1300-2000")
 def test_tmy3_annual_ghi_is_the_files_own(tmy3_year, tmy3_raw):
     frame, _ = tmy3_year
     annual_kwh_m2 = frame["ghi_w_m2"].sum() / 1000.0
@@ -81,6 +91,9 @@ def test_tmy3_annual_ghi_is_the_files_own(tmy3_year, tmy3_raw):
     assert 1300 < annual_kwh_m2 < 2000
 
 
+@external_check(area="weather", quantity="annual global daylight efficacy of TMY3 723170 after scaling x 100",
+                value="~100 lm/W", source="Perez et al. (1990), Solar Energy 44(5):271-289 (order of magnitude)",
+                tolerance="90-130 lm/W")
 def test_tmy3_keeps_illuminance_and_pressure(tmy3_year, tmy3_raw):
     frame, meta = tmy3_year
     # pvlib's 723170TYA.CSV stores illuminance in hundreds of lux under an "lx" header: its ratio to
@@ -186,8 +199,13 @@ def hours(start: str = "2019-01-01", periods: int = HOURS_PER_YEAR) -> pd.Dateti
     return pd.date_range(start, periods=periods, freq="h")
 
 
+@external_check(area="weather", quantity="DNI and DHI split from GHI 500 W/m2 at zenith 30 deg, day 172",
+                value="126.66; 390.31 W/m2",
+                source="Erbs, Klein & Duffie (1982), Solar Energy 28(4):293-302, computed with pvlib 0.16.1 erbs",
+                tolerance="0.02 W/m2")
 def test_csv_ghi_only_is_split_with_erbs(tmp_path):
-    """references.md 7.4 [C]: pvlib erbs(ghi=500, zenith=30, doy=172) -> DNI 126.66, DHI 390.31 W/m2."""
+    """Erbs, Klein & Duffie (1982) diffuse fraction, computed with pvlib 0.16.1: erbs(ghi=500, zenith=30,
+    doy=172) -> DNI 126.66, DHI 390.31 W/m2."""
     idx = hours("2025-01-01")
     noon = pd.Timestamp("2025-06-21 12:00")  # day of year 172; mid-hour 12:30 at UTC+0
     mid = pd.DatetimeIndex([noon + pd.Timedelta(minutes=30)]).tz_localize("UTC")
@@ -204,8 +222,8 @@ def test_csv_ghi_only_is_split_with_erbs(tmp_path):
     frame, meta = read_weather_file(path)
     at = pd.Timestamp("2025-06-21 12:00", tz="UTC")
     assert frame.loc[at, "ghi_w_m2"] == 500.0
-    assert frame.loc[at, "dni_w_m2"] == pytest.approx(126.66, abs=0.02)  # references.md 7.4 [C]
-    assert frame.loc[at, "dhi_w_m2"] == pytest.approx(390.31, abs=0.02)  # references.md 7.4 [C]
+    assert frame.loc[at, "dni_w_m2"] == pytest.approx(126.66, abs=0.02)  # Erbs et al. 1982 via pvlib [C]
+    assert frame.loc[at, "dhi_w_m2"] == pytest.approx(390.31, abs=0.02)  # Erbs et al. 1982 via pvlib [C]
     assert any("Erbs" in note for note in meta.notes)
     # defaults filled in with notes
     assert (frame["temp_air_c"] == 20.0).all() and (frame["wind_speed_m_s"] == 1.0).all()

@@ -85,9 +85,10 @@ LightSource = Literal["warm-white-led", "neutral-white-led", "cool-white-led", "
                       "fluorescent-triphosphor", "incandescent"]
 
 #: Starting figures per cell technology, at 1000 lx of neutral-white LED light (all editable).
-#: Efficiencies are typical of commercial cells (references.md 1.6: a-Si 3-9 %, 5-6 % measured by
-#: Apostolou et al. 2016; mono c-Si 5-7 % under mixed indoor light; GaAs ~19 % at 580 lx white LED,
-#: Teran et al. 2016; dye and organic cells 15 % for products, 25-35 % in laboratories).
+#: Efficiencies are typical of commercial cells (a-Si 3-9 %, from memory, and 5-6 % measured by
+#: Apostolou, Reinders & Verwaal 2016, Energy Sci. Eng. 4(1):69-85; mono c-Si 5-7 % under mixed indoor
+#: light; GaAs ~19 % at 580 lx white LED, Teran et al. 2016; dye and organic cells 15 % for products,
+#: 25-35 % in laboratories).
 #: Voc per cell and ideality factors are common-practice values for these technologies.
 TECHNOLOGIES: dict[str, dict[str, float]] = {
     "amorphous-silicon": {"efficiency_ref_pct": 6.0, "voc_ref_v": 0.65, "ideality_factor": 1.8},

@@ -46,15 +46,16 @@ from .base import SourceBase, SourceOutput
 SPEED_OF_LIGHT_M_S = 299_792_458.0
 
 # Rectifier RF-to-DC efficiency against input power: (input [dBm], efficiency [-]). Values chosen
-# inside the ranges read from the survey of Valenta & Durgin (2014) (references.md 4.3, low
-# confidence): -20 dBm 5-25 %, -10 dBm 20-50 %, 0 dBm 40-75 %, peak 70-85 % at +10..+20 dBm, then
+# inside the ranges read from the survey of Valenta & Durgin (2014), IEEE Microwave Magazine 15(4):108-120
+# (read from memory, low confidence): -20 dBm 5-25 %, -10 dBm 20-50 %, 0 dBm 40-75 %, peak 70-85 % at +10..+20 dBm, then
 # falling as the diode nears breakdown.
 DEFAULT_RECTIFIER_CURVE: list[tuple[float, float]] = [
     (-30.0, 0.02), (-20.0, 0.15), (-10.0, 0.35), (0.0, 0.55), (10.0, 0.72), (15.0, 0.75), (20.0, 0.6),
     (25.0, 0.3),
 ]
 
-# Licence-free transmit limits (from memory; references.md 4.2): (low MHz, high MHz, EIRP limit dBm, rule).
+# Licence-free transmit limits (from memory, not re-verified against the rules):
+# (low MHz, high MHz, EIRP limit dBm, rule).
 EIRP_LIMITS: list[tuple[float, float, float, str]] = [
     (902.0, 928.0, 36.0, "US 902-928 MHz, 47 CFR 15.247: 1 W conducted with up to 6 dBi, i.e. 4 W EIRP"),
     (865.0, 868.0, 35.16, "EU 865-868 MHz, ETSI EN 302 208: 2 W ERP, i.e. 35.16 dBm EIRP"),

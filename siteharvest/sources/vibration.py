@@ -92,7 +92,7 @@ def _tone(freq_hz: float, accel: float, measure: str) -> dict[str, Any]:
 # every value stays editable. Provenance of each in VIBRATION_PRESET_SOURCES.
 VIBRATION_PRESETS: dict[str, dict[str, Any]] = {
     # Roundy, Wright & Rabaey (2003), Computer Communications 26, Table 2: acceleration amplitude and
-    # frequency of the dominant peak. FROM MEMORY (references.md 3.3, tag [M]): not re-verified.
+    # frequency of the dominant peak. FROM MEMORY: not re-verified against the paper.
     # The ~121 Hz entries are twice the 60 Hz mains; expect ~100 Hz where mains is 50 Hz.
     "car-engine-compartment": {"peak": [_tone(200.0, 12.0, "peak")]},
     "machine-tool-base": {"peak": [_tone(70.0, 10.0, "peak")]},
@@ -108,7 +108,7 @@ VIBRATION_PRESETS: dict[str, dict[str, Any]] = {
     "notebook-disc-drive": {"peak": [_tone(75.0, 0.6, "peak")]},
     "busy-office-upper-floor": {"peak": [_tone(100.0, 0.2, "peak")]},
     # ISO 10816-3 zone boundaries for medium machines on rigid foundations (1.4 / 2.8 / 4.5 mm/s RMS,
-    # A/B, B/C, C/D; FROM MEMORY, references.md 3.3 [M]) taken as all of the vibration sitting at a
+    # A/B, B/C, C/D; FROM MEMORY, not re-verified) taken as all of the vibration sitting at a
     # 50 Hz running speed (the optimistic case), a_rms = 2 pi f v_rms (2.8 mm/s -> 0.88 m/s2 RMS [C]).
     "smooth-machine-50hz": {"peak": [_tone(50.0, _iso_velocity_to_accel_rms(1.4, 50.0), "rms")]},
     "healthy-pump-50hz": {"peak": [_tone(50.0, _iso_velocity_to_accel_rms(2.8, 50.0), "rms")]},
