@@ -23,71 +23,50 @@ from siteharvest.conditioning import CONDITIONING_PRESETS, ConditioningSpec
 from siteharvest.demand import NodeSpec
 from siteharvest.fields import bounds_of
 from siteharvest.site import RunSpec, SiteSpec, SpotSpec
-from siteharvest.sources import SOURCE_KINDS
-from siteharvest.sources.indoor_light import TECHNOLOGIES, IndoorLightSource
-from siteharvest.sources.solar import MOUNTING_PRESETS, TECHNOLOGY_PRESETS, SolarSource
-from siteharvest.sources.thermoelectric import MODULE_PRESETS, ThermoelectricSource
-from siteharvest.sources.vibration import VIBRATION_PRESETS, VibrationSource
+from siteharvest.sources import SOURCE_KINDS, KindTable, PresetField, field_model
 from siteharvest.store import BACKUP_PRESETS, CELL_PRESETS, BackupCellSpec, RechargeableCellSpec, SupercapacitorSpec
-from siteharvest.weather import SyntheticWeatherSpec, WeatherSpec, bundled_weather_files
+from siteharvest.weather import PLACE_DEPENDENT_DEFAULTS, SyntheticWeatherSpec, WeatherSpec, bundled_weather_files
 
 # Fields that start from a table of presets: choosing another entry must bring that entry's values,
 # so the keys it supplies are dropped from the section before validation (the model merges the
-# preset underneath what is given).
-PRESET_TABLES: dict[str, dict[str, dict[str, Any]]] = {
-    "solar-technology": TECHNOLOGY_PRESETS,
-    "solar-mounting": MOUNTING_PRESETS,
-    "indoor-technology": TECHNOLOGIES,
-    "thermo-module": MODULE_PRESETS,
-    "vibration-source": VIBRATION_PRESETS,
-    "conditioning": CONDITIONING_PRESETS,
-    "cell-chemistry": CELL_PRESETS,
-    "backup-cell": BACKUP_PRESETS,
-}
-PRESET_FIELDS: dict[tuple[type[BaseModel], str], str] = {
-    (SolarSource, "technology"): "solar-technology",
-    (SolarSource, "mounting"): "solar-mounting",
-    (IndoorLightSource, "technology"): "indoor-technology",
-    (ThermoelectricSource, "preset"): "thermo-module",
-    (VibrationSource, "preset"): "vibration-source",
-    (ConditioningSpec, "preset"): "conditioning",
-    (RechargeableCellSpec, "chemistry"): "cell-chemistry",
-    (BackupCellSpec, "cell"): "backup-cell",
-}
+# preset underneath what is given). Source kinds declare theirs in their records (PresetField).
+STORE_PRESETS: tuple[tuple[type[BaseModel], PresetField], ...] = (
+    (ConditioningSpec, PresetField("preset", "conditioning", CONDITIONING_PRESETS,
+                                   clears=("efficiency_vs_input_v",))),
+    (RechargeableCellSpec, PresetField("chemistry", "cell-chemistry", CELL_PRESETS)),
+    (BackupCellSpec, PresetField("cell", "backup-cell", BACKUP_PRESETS)),
+)
+# Editor groups that are not a source kind's own; each kind names its group (and that group's title).
+FIXED_GROUPS = {"place": "Place and weather", "mounting": "Mounting"}
+LAST_GROUPS = {"node": "The node's tasks", "store": "The store", "run": "Judging the year"}
+# What each kind is called, which group it sits in and what a new one starts from: from the records.
+KIND_NAMES = KindTable("name")
+SOURCE_GROUPS = KindTable("group")
+NEW_SOURCE = KindTable("new_source")
 
-SOURCE_GROUPS: dict[str, str] = {
-    "solar": "mounting",
-    "indoor_light": "light",
-    "thermoelectric": "heat",
-    "vibration": "vibration",
-    "rf": "rf",
-}
-GROUP_TITLES: dict[str, str] = {
-    "place": "Place and weather",
-    "mounting": "Mounting and sun",
-    "light": "Light indoors",
-    "heat": "Heat",
-    "vibration": "Vibration",
-    "rf": "RF beam",
-    "node": "The node's tasks",
-    "store": "The store",
-    "run": "Judging the year",
-}
-KIND_NAMES: dict[str, str] = {
-    "solar": "solar panel",
-    "indoor_light": "indoor light cell",
-    "thermoelectric": "thermoelectric module",
-    "vibration": "vibration harvester",
-    "rf": "RF receiver",
-}
-# What a new item starts from (every other field takes its model default).
-NEW_SOURCE: dict[str, dict[str, Any]] = {
-    "solar": {"area_cm2": 10.0, "tilt_deg": 30.0},
-    "indoor_light": {"area_cm2": 20.0},
-    "thermoelectric": {"hot_side": {"mode": "constant", "surface_c": 60.0}},
-    "vibration": {"preset": next(iter(VIBRATION_PRESETS))},
-    "rf": {},
-}
+
+def preset_fields() -> dict[tuple[type[BaseModel], str], PresetField]:
+    """Every field that starts from a preset table, by (model that declares it, field name)."""
+    found = {(model, p.field): p for model, p in STORE_PRESETS}
+    for kind in SOURCE_KINDS.values():
+        for preset in kind.presets:
+            found[field_model(kind.model, preset.field)] = preset
+    return found
+
+
+def preset_table(key: str) -> PresetField:
+    """The preset field whose table the editor calls ``key`` (``thermo-module``)."""
+    return next(p for p in preset_fields().values() if p.key == key)
+
+
+def group_titles() -> dict[str, str]:
+    """Titles of the editor's groups in order: place and mounting, each kind's group, node, store, run."""
+    titles = dict(FIXED_GROUPS)
+    for kind in SOURCE_KINDS.values():
+        titles[kind.group] = kind.group_title
+    return {**titles, **LAST_GROUPS}
+
+
 NEW_ITEM: dict[str, dict[str, Any]] = {
     "task": {"name": "new task", "current_ma": 5.0, "duration_ms": 20.0, "every_s": 600.0},
     "peak": {"frequency_hz": 50.0, "accel": 1.0, "accel_unit": "m/s2", "measure": "rms"},
@@ -397,11 +376,10 @@ def _control(model: type[BaseModel], name: str, data: dict[str, Any], path: str)
     info = model.model_fields[name]
     role, options = classify(info.annotation)
     unit, bounds, doc = format_bounds(model, name)
-    table = PRESET_FIELDS.get((model, name))
-    if table:
-        role, options = f"preset:{table}", list(PRESET_TABLES[table])
-        if role == "preset:vibration-source":
-            role = "opt-preset:vibration-source"
+    preset = preset_fields().get((model, name))
+    if preset:
+        optional = role.startswith("opt-")
+        role, options = f"{'opt-' if optional else ''}preset:{preset.key}", list(preset.table)
     if role in ("pairs", "opt-pairs"):
         bounds = bounds or "pairs 'x, y; x, y'"
     if role.removeprefix("opt-") in ("floats", "ints", "words"):
@@ -412,6 +390,8 @@ def _control(model: type[BaseModel], name: str, data: dict[str, Any], path: str)
     placeholder = ""
     if role.startswith("opt-") and info.default is None:
         placeholder = "not set"
+    if model is SyntheticWeatherSpec and name in PLACE_DEPENDENT_DEFAULTS:  # left empty: resolved by hemisphere
+        role, placeholder = f"opt-{role.removeprefix('opt-')}", "default for the spot's hemisphere"
     return Control(path=join_path(path, name), name=name, label=humanise(name, unit), unit=unit, doc=doc,
                    bounds=bounds, role=role, value=display_value(role, value),
                    options=[(o, o) for o in options] if options else None, placeholder=placeholder)
@@ -502,7 +482,7 @@ def _weather_block(data: dict[str, Any], files: dict[str, str]) -> Block:
 def editor_groups(site: dict[str, Any], files: dict[str, str] | None = None) -> list[Group]:
     """Every field of the site file, grouped by what it describes."""
     spot = site.get("spot", {})
-    groups = {key: Group(key, title) for key, title in GROUP_TITLES.items()}
+    groups = {key: Group(key, title) for key, title in group_titles().items()}
     place_fields = [n for n in SpotSpec.model_fields if n not in SPOT_IN_MOUNTING]
     groups["place"].items = [_control(SpotSpec, n, spot, "spot") for n in place_fields]
     groups["place"].items.append(_weather_block(site.get("weather") or {}, files or {}))
@@ -511,14 +491,14 @@ def editor_groups(site: dict[str, Any], files: dict[str, str] | None = None) -> 
         kind = src.get("kind", "")
         if kind not in SOURCE_KINDS:
             continue
-        model = SOURCE_KINDS[kind][0]
+        record = SOURCE_KINDS[kind]
         path = join_path("source", i)
-        title = f"{src.get('id', i)} · {KIND_NAMES.get(kind, kind)}"
-        block = Block(title=title, path=path, items=walk(model, src, path, skip=("kind",)),
-                      remove_action="remove-source", upload="spectrum" if kind == "vibration" else None)
-        groups[SOURCE_GROUPS[kind]].items.append(block)
-    for kind, group in SOURCE_GROUPS.items():
-        groups[group].add_actions.append((f"add-source:{kind}", f"add {_article(KIND_NAMES[kind])}"))
+        title = f"{src.get('id', i)} · {record.name}"
+        block = Block(title=title, path=path, items=walk(record.model, src, path, skip=("kind",)),
+                      remove_action="remove-source", upload=record.upload)
+        groups[record.group].items.append(block)
+    for record in SOURCE_KINDS.values():
+        groups[record.group].add_actions.append((f"add-source:{record.kind}", f"add {_article(record.name)}"))
     groups["node"].items = walk(NodeSpec, site.get("node") or {}, "node")
     store = site.get("store") or {}
     groups["store"].items = [_variant_block("store", "kind", list(_store_members()), store, "store", SiteSpec)]
@@ -576,14 +556,12 @@ def apply_edit(site: dict[str, Any], path: str, role: str, raw: Any, *,
         parent[last] = value
     structural = False
     if "preset:" in role:
-        table = PRESET_TABLES[role.split(":", 1)[1]]
-        chosen = table.get(value, {}) if isinstance(value, str) else {}
+        preset = preset_table(role.split(":", 1)[1])
+        chosen = preset.table.get(value, {}) if isinstance(value, str) else {}
         for key in chosen:
             parent.pop(key, None)
-        if role.endswith("conditioning"):
-            parent.pop("efficiency_vs_input_v", None)
-        if role.endswith("vibration-source") and value is not REMOVE:
-            for key in ("spectrum_file", "spectrum_unit", "spectrum_measure", "value_column"):
+        if value is not REMOVE:
+            for key in preset.clears:
                 parent.pop(key, None)
         structural = True
     if last in ("name", "id"):

@@ -11,23 +11,40 @@ from __future__ import annotations
 
 import itertools
 import math
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass
 
 import numpy as np
 import plotly.graph_objects as go
 
-from siteharvest.sizing import SMALLER_IS_MORE, SizingMap, WeatherRisk
+from siteharvest.findings import NO_WAKE_TEXT, case_label
+from siteharvest.sizing import SizingMap, WeatherRisk
+from siteharvest.sources import SOURCE_KINDS
 
 from .figures import OKABE_ITO, base_layout
 
-# Plain axis names for each kind's size knob and each store's size field.
-SIZE_LABELS = {
-    "area_cm2": "Cell area",
-    "modules": "Thermoelectric modules",
-    "proof_mass_g": "Proof mass",
-    "distance_m": "Distance from the transmitter",
-    "capacitance_f": "Supercapacitor capacitance",
-    "capacity_mah": "Cell capacity",
-}
+# Plain axis names of each store's size field; a harvester's come from its kind's size knobs.
+STORE_LABELS = {"capacitance_f": "Supercapacitor capacitance", "capacity_mah": "Cell capacity"}
+
+
+class _SizeLabels(Mapping[str, str]):
+    """Plain axis names by size field: the stores' and every registered kind's size knobs (a live view)."""
+
+    def _table(self) -> dict[str, str]:
+        knobs = {k.field: k.label for kind in SOURCE_KINDS.values() for k in kind.size_knobs}
+        return {**knobs, **STORE_LABELS}
+
+    def __getitem__(self, name: str) -> str:
+        return self._table()[name]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._table())
+
+    def __len__(self) -> int:
+        return len(self._table())
+
+
+SIZE_LABELS: Mapping[str, str] = _SizeLabels()
 # Unit strings of the site file as shown to a reader.
 UNIT_TEXT = {"cm2": "cm²", "m2": "m²", "mm2": "mm²", "degC": "°C", "W/m2": "W/m²", "uW": "µW", "uA": "µA"}
 # Colour-scale ticks for deficit days (the scale runs in log(1 + days) so that 0, 1-5 and 6-60 stand apart).
@@ -117,7 +134,7 @@ def _label(fig: go.Figure, text: str, x: float, y: float, log_x: bool, log_y: bo
 
 def _wake_text(hours: float) -> str:
     if not np.isfinite(hours):
-        return "no wake within 90 days"
+        return NO_WAKE_TEXT
     return f"first wake {hours:,.0f} h" + (f" ({hours / 24:.1f} days)" if hours >= 48 else "")
 
 
@@ -134,86 +151,133 @@ def sizing_heatmap(m: SizingMap, title: str = "") -> go.Figure:
     m : SizingMap  from :func:`siteharvest.sizing.sizing_map`.
     title : str  replaces the default title.
     """
-    hs = np.asarray(m.harvester_sizes, dtype=float)
-    ss = np.asarray(m.store_sizes, dtype=float)
-    dd = np.asarray(m.deficit_days, dtype=float)
-    fw = np.asarray(m.first_wake_hours, dtype=float)
-    h_int = _is_integer(hs) and m.harvester_unit in ("-", "")
-    h_unit = unit_text(m.harvester_unit, h_int)
-    s_unit = unit_text(m.store_unit)
-    h_log, s_log = (not h_int) and is_log_spaced(hs), is_log_spaced(ss)  # counts stay on a linear axis
-    h_name = SIZE_LABELS.get(m.harvester_field, m.harvester_field).lower()
-    s_name = SIZE_LABELS.get(m.store_field, m.store_field).lower()
-    hover = np.empty(dd.shape, dtype=object)
-    for i in range(dd.shape[0]):
-        for j in range(dd.shape[1]):
-            ok = "meets" if dd[i, j] <= m.target_deficit_days else "misses"
-            hover[i, j] = (f"{h_name}: {_q(hs[i], h_unit)}<br>{s_name}: {_q(ss[j], s_unit)}<br>"
-                           f"<b>{int(dd[i, j])} deficit days</b> ({ok} the target)<br>{_wake_text(fw[i, j])}")
-    x_edges, y_edges = cell_edges(ss, s_log), cell_edges(hs, h_log)
-    fig = go.Figure(go.Heatmap(
-        x=x_edges, y=y_edges, z=np.log1p(dd), text=hover,
+    ax = _MapAxes.of(m)
+    fig = go.Figure(_deficit_cells(m, ax))
+    _add_frontier(fig, m, ax)
+    drawn_i = int(np.argmin(np.abs(ax.hs - m.harvester_drawn)))  # the map includes the drawn sizes
+    drawn_j = int(np.argmin(np.abs(ax.ss - m.store_drawn)))
+    _add_drawn(fig, m, ax, drawn_i, drawn_j)
+    pick_offset = _add_pick(fig, m, ax)
+    base_layout(fig, title or f"What it takes: deficit days by harvester and store size, {m.source_id}",
+                height=520)
+    fig.update_layout(legend={"orientation": "h", "y": -0.16, "x": 0, "yanchor": "top"},
+                      margin={"l": 80, "r": 24, "t": 56, "b": 110})
+    n_h, n_s = ax.dd.shape
+    drawn_ax, drawn_ay = (-50 if drawn_j >= n_s / 2 else 50), (30 if drawn_i >= n_h / 2 else -30)
+    if pick_offset is not None and m.pick is not None and abs(m.pick[0] - drawn_i) <= 3 \
+            and abs(m.pick[1] - drawn_j) <= 3:
+        # neighbours: point the two labels away from each other
+        drawn_ax, drawn_ay = -50 if pick_offset[0] > 0 else 50, -30 if pick_offset[1] > 0 else 30
+    _label(fig, "as drawn", m.store_drawn, m.harvester_drawn, ax.s_log, ax.h_log, drawn_ax, drawn_ay)
+    _set_axes(fig, m, ax)
+    return fig
+
+
+@dataclass(frozen=True)
+class _MapAxes:
+    """What the parts of a sizing heatmap share: sizes, units, names and whether each axis is logarithmic."""
+
+    hs: np.ndarray
+    ss: np.ndarray
+    dd: np.ndarray
+    fw: np.ndarray
+    h_int: bool
+    h_unit: str
+    s_unit: str
+    h_log: bool
+    s_log: bool
+    h_name: str
+    s_name: str
+
+    @classmethod
+    def of(cls, m: SizingMap) -> _MapAxes:
+        hs = np.asarray(m.harvester_sizes, dtype=float)
+        ss = np.asarray(m.store_sizes, dtype=float)
+        h_int = _is_integer(hs) and m.harvester_unit in ("-", "")
+        label = m.harvester_label or SIZE_LABELS.get(m.harvester_field, m.harvester_field)
+        return cls(hs, ss, np.asarray(m.deficit_days, dtype=float), np.asarray(m.first_wake_hours, dtype=float),
+                   h_int, unit_text(m.harvester_unit, h_int), unit_text(m.store_unit),
+                   (not h_int) and is_log_spaced(hs), is_log_spaced(ss),  # counts stay on a linear axis
+                   label.lower(), SIZE_LABELS.get(m.store_field, m.store_field).lower())
+
+
+def _deficit_cells(m: SizingMap, ax: _MapAxes) -> go.Heatmap:
+    """The map's cells, coloured by log(1 + deficit days), each with its hover text."""
+    hover = np.empty(ax.dd.shape, dtype=object)
+    for i in range(ax.dd.shape[0]):
+        for j in range(ax.dd.shape[1]):
+            ok = "meets" if ax.dd[i, j] <= m.target_deficit_days else "misses"
+            hover[i, j] = (f"{ax.h_name}: {_q(ax.hs[i], ax.h_unit)}<br>{ax.s_name}: {_q(ax.ss[j], ax.s_unit)}<br>"
+                           f"<b>{int(ax.dd[i, j])} deficit days</b> ({ok} the target)<br>{_wake_text(ax.fw[i, j])}")
+    return go.Heatmap(
+        x=cell_edges(ax.ss, ax.s_log), y=cell_edges(ax.hs, ax.h_log), z=np.log1p(ax.dd), text=hover,
         zmin=0.0, zmax=math.log1p(MAX_DAYS), colorscale="Cividis", reversescale=True,
         colorbar={"title": {"text": "Deficit days [days/yr]", "side": "right"}, "thickness": 14,
                   "tickvals": [math.log1p(t) for t in DEFICIT_TICKS], "ticktext": [str(t) for t in DEFICIT_TICKS]},
-        hovertemplate="%{text}<extra></extra>", name="deficit days"))
-    if m.frontier:
-        pts = sorted(m.frontier)
-        fig.add_trace(go.Scatter(
-            x=[ss[j] for _, j in pts], y=[hs[i] for i, _ in pts], mode="lines+markers",
-            name=f"frontier: least combinations meeting ≤ {m.target_deficit_days} deficit days",
-            line={"color": OKABE_ITO["black"], "width": 2, "dash": "dot", "shape": "vh"},
-            marker={"symbol": "circle", "size": 8, "color": "#ffffff", "line": {"color": OKABE_ITO["black"],
-                                                                                 "width": 2}},
-            customdata=[[int(dd[i, j])] for i, j in pts],
-            hovertemplate=(f"frontier<br>{h_name}: %{{y:.3g}} {h_unit}<br>{s_name}: %{{x:.3g}} {s_unit}"
-                           "<br>%{customdata[0]} deficit days<extra></extra>")))
-    drawn_i = int(np.argmin(np.abs(hs - m.harvester_drawn)))  # the map includes the drawn sizes
-    drawn_j = int(np.argmin(np.abs(ss - m.store_drawn)))
+        hovertemplate="%{text}<extra></extra>", name="deficit days")
+
+
+def _add_frontier(fig: go.Figure, m: SizingMap, ax: _MapAxes) -> None:
+    if not m.frontier:
+        return
+    pts = sorted(m.frontier)
+    fig.add_trace(go.Scatter(
+        x=[ax.ss[j] for _, j in pts], y=[ax.hs[i] for i, _ in pts], mode="lines+markers",
+        name=f"frontier: least combinations meeting ≤ {m.target_deficit_days} deficit days",
+        line={"color": OKABE_ITO["black"], "width": 2, "dash": "dot", "shape": "vh"},
+        marker={"symbol": "circle", "size": 8, "color": "#ffffff", "line": {"color": OKABE_ITO["black"],
+                                                                             "width": 2}},
+        customdata=[[int(ax.dd[i, j])] for i, j in pts],
+        hovertemplate=(f"frontier<br>{ax.h_name}: %{{y:.3g}} {ax.h_unit}<br>{ax.s_name}: %{{x:.3g}} {ax.s_unit}"
+                       "<br>%{customdata[0]} deficit days<extra></extra>")))
+
+
+def _add_drawn(fig: go.Figure, m: SizingMap, ax: _MapAxes, drawn_i: int, drawn_j: int) -> None:
     fig.add_trace(go.Scatter(
         x=[m.store_drawn], y=[m.harvester_drawn], mode="markers", name="as drawn in the site file",
         marker={"symbol": "x-thin", "size": 14, "color": OKABE_ITO["black"],
                 "line": {"color": OKABE_ITO["black"], "width": 3}},
-        hovertemplate=(f"as drawn<br>{h_name}: %{{y:.3g}} {h_unit}<br>{s_name}: %{{x:.3g}} {s_unit}"
-                       f"<br>{int(dd[drawn_i, drawn_j])} deficit days<extra></extra>")))
-    if m.pick is not None:
-        i, j = m.pick
-        fig.add_trace(go.Scatter(
-            x=[ss[j]], y=[hs[i]], mode="markers", name="pick: least harvester, then least store",
-            marker={"symbol": "star", "size": 18, "color": OKABE_ITO["orange"],
-                    "line": {"color": OKABE_ITO["black"], "width": 1.5}},
-            hovertemplate=(f"pick<br>{h_name}: %{{y:.3g}} {h_unit}<br>{s_name}: %{{x:.3g}} {s_unit}"
-                           f"<br>{int(dd[i, j])} deficit days, {_wake_text(fw[i, j])}<extra></extra>")))
-        pick_ax, pick_ay = (60 if j < dd.shape[1] / 2 else -60), (34 if i >= dd.shape[0] / 2 else -34)
-        _label(fig, f"pick: {_q(hs[i], h_unit, m.harvester_field)} + {_q(ss[j], s_unit)}", ss[j], hs[i],
-               s_log, h_log, pick_ax, pick_ay)
-    else:
+        hovertemplate=(f"as drawn<br>{ax.h_name}: %{{y:.3g}} {ax.h_unit}<br>{ax.s_name}: %{{x:.3g}} {ax.s_unit}"
+                       f"<br>{int(ax.dd[drawn_i, drawn_j])} deficit days<extra></extra>")))
+
+
+def _add_pick(fig: go.Figure, m: SizingMap, ax: _MapAxes) -> tuple[int, int] | None:
+    """The pick as a labelled star (its label's offset returned), or a note that nothing passes."""
+    if m.pick is None:
         fig.add_annotation(
             text=f"no combination in this map meets ≤ {m.target_deficit_days} deficit days",
             x=0.5, y=0.97, xref="paper", yref="paper", yanchor="top", showarrow=False,
             bgcolor="rgba(255,255,255,0.9)",
             bordercolor=OKABE_ITO["black"], borderwidth=1, font={"size": 13, "color": OKABE_ITO["black"]})
-    base_layout(fig, title or f"What it takes: deficit days by harvester and store size, {m.source_id}",
-                height=520)
-    fig.update_layout(legend={"orientation": "h", "y": -0.16, "x": 0, "yanchor": "top"},
-                      margin={"l": 80, "r": 24, "t": 56, "b": 110})
-    drawn_ax, drawn_ay = (-50 if drawn_j >= dd.shape[1] / 2 else 50), (30 if drawn_i >= dd.shape[0] / 2 else -30)
-    if m.pick is not None and abs(m.pick[0] - drawn_i) <= 3 and abs(m.pick[1] - drawn_j) <= 3:
-        # neighbours: point the two labels away from each other
-        drawn_ax, drawn_ay = -50 if pick_ax > 0 else 50, -30 if pick_ay > 0 else 30
-    _label(fig, "as drawn", m.store_drawn, m.harvester_drawn, s_log, h_log, drawn_ax, drawn_ay)
-    fig.update_xaxes(title_text=size_axis_title(m.store_field, m.store_unit), type="log" if s_log else "linear",
-                     showgrid=False, range=_axis_range(x_edges, s_log), **_log_axis(x_edges, s_log))
-    reverse = (m.kind, m.harvester_field) in SMALLER_IS_MORE
-    fig.update_yaxes(title_text=size_axis_title(m.harvester_field, m.harvester_unit, h_int)
+        return None
+    i, j = m.pick
+    fig.add_trace(go.Scatter(
+        x=[ax.ss[j]], y=[ax.hs[i]], mode="markers", name="pick: least harvester, then least store",
+        marker={"symbol": "star", "size": 18, "color": OKABE_ITO["orange"],
+                "line": {"color": OKABE_ITO["black"], "width": 1.5}},
+        hovertemplate=(f"pick<br>{ax.h_name}: %{{y:.3g}} {ax.h_unit}<br>{ax.s_name}: %{{x:.3g}} {ax.s_unit}"
+                       f"<br>{int(ax.dd[i, j])} deficit days, {_wake_text(ax.fw[i, j])}<extra></extra>")))
+    offset = (60 if j < ax.dd.shape[1] / 2 else -60), (34 if i >= ax.dd.shape[0] / 2 else -34)
+    _label(fig, f"pick: {_q(ax.hs[i], ax.h_unit, m.harvester_field)} + {_q(ax.ss[j], ax.s_unit)}", ax.ss[j],
+           ax.hs[i], ax.s_log, ax.h_log, *offset)
+    return offset
+
+
+def _set_axes(fig: go.Figure, m: SizingMap, ax: _MapAxes) -> None:
+    """Axis titles, scales and ranges; a knob where smaller is more runs upward toward less of it."""
+    x_edges, y_edges = cell_edges(ax.ss, ax.s_log), cell_edges(ax.hs, ax.h_log)
+    fig.update_xaxes(title_text=size_axis_title(m.store_field, m.store_unit), type="log" if ax.s_log else "linear",
+                     showgrid=False, range=_axis_range(x_edges, ax.s_log), **_log_axis(x_edges, ax.s_log))
+    reverse = m.smaller_is_more
+    y_range = _axis_range(y_edges, ax.h_log)
+    fig.update_yaxes(title_text=size_axis_title(m.harvester_field, m.harvester_unit, ax.h_int)
                      + (" (closer: up)" if reverse else ""),
-                     type="log" if h_log else "linear", showgrid=False,
-                     range=_axis_range(y_edges, h_log)[::-1] if reverse else _axis_range(y_edges, h_log),
-                     dtick=integer_step(float(np.ptp(hs))) if h_int else None, **_log_axis(y_edges, h_log))
+                     type="log" if ax.h_log else "linear", showgrid=False,
+                     range=y_range[::-1] if reverse else y_range,
+                     dtick=integer_step(float(np.ptp(ax.hs))) if ax.h_int else None, **_log_axis(y_edges, ax.h_log))
     fig.add_annotation(text=f"target: at most {m.target_deficit_days} deficit days a year", x=1.0, y=1.01,
                        xref="paper", yref="paper", xanchor="right", yanchor="bottom", showarrow=False,
                        font={"size": 11, "color": "#5b6573"})
-    return fig
 
 
 def integer_step(span: float, ticks: int = 8) -> int:
@@ -265,7 +329,7 @@ def risk_histogram(risk: WeatherRisk, case_id: str, title: str = "") -> go.Figur
         fig.add_annotation(text=label, x=value, y=top * (1.14 + 0.09 * k), xref="x", yref="y", showarrow=False,
                            xanchor="left", yanchor="bottom", bgcolor="rgba(255,255,255,0.85)",
                            font={"size": 11, "color": OKABE_ITO["black"]})
-    case = "all sources together" if case_id == "all-sources" else case_id
+    case = case_label(case_id)
     base_layout(fig, title or f"Weather risk over {risk.years} resampled years, {case}", height=420)
     fig.add_annotation(text=f"years with at least one deficit day: {summary['chance_any']:.0%}", x=1.0, y=1.01,
                        xref="paper", yref="paper", xanchor="right", yanchor="bottom", showarrow=False,

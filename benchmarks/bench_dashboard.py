@@ -67,8 +67,7 @@ def four_source_spot() -> tuple[dict, str]:
 
 def size_path(site: dict) -> tuple[str, str, float]:
     src = site["source"][0]
-    model = SOURCE_KINDS[src["kind"]][0]
-    name = model.size_field
+    name = SOURCE_KINDS[src["kind"]].knob().field
     role = "int" if isinstance(src[name], int) and not isinstance(src[name], bool) else "float"
     return f"source.0.{name}", role, float(src[name])
 

@@ -102,12 +102,6 @@ class SiteInputError(ValueError):
         parts.append(text)
         return ": ".join(parts)
 
-    def with_file(self, file: str) -> SiteInputError:
-        """The same error, naming ``file`` when it named none."""
-        if self.file:
-            return self
-        return SiteInputError(self.expected, file=file, field=self.field, got=self.got, line=self.line)
-
 
 class ChoiceError(ValueError):
     """A preset-type field holding something other than one of its names (raised in validators).

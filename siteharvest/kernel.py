@@ -117,7 +117,7 @@ def _hour(h_run_v, h_cold_v, d_sched, charge_ok, e, on, c_cut, c_full, c_on, c_c
     if leak > e:
         leak = e
     e -= leak
-    short = unmet > 1e-12
+    short = unmet > UNMET_TOLERANCE_J
     # on stays on while nothing ran short; otherwise (off, or just cut off) it runs next hour only
     # from the turn-on level up
     on_next = on

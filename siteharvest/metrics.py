@@ -1,7 +1,8 @@
 """Metrics of a simulated year, as defined in the design notes.
 
-- deficit day: a local calendar day of the steady-state year on which some demand went unmet
-  because the store was at its cut-off;
+- deficit day: a local calendar day of the steady-state year (a warm-up year is simulated first) on
+  which the node was off or could not finish a scheduled task because the store was at its cut-off
+  (:data:`DEFICIT_DAY`, the one wording the README and the report use too);
 - first wake: hours from installation (store empty) until the node first runs;
 - longest outage: longest run of hours with the node off after its first wake;
 - lowest state of charge: lowest usable fraction of the store over the steady-state year;
@@ -17,6 +18,9 @@ import numpy as np
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, month_of_hour
 
 J_PER_WH = 3600.0
+#: What a deficit day is, in the words every front end uses.
+DEFICIT_DAY = ("a local calendar day of the steady-state year (a warm-up year is simulated first) on which the node "
+               "was off or could not finish a scheduled task because the store was at its cut-off")
 VERDICTS = (
     (0, "self-sufficient"),
     (5, "brief gaps"),
@@ -31,15 +35,16 @@ def dark_hours(on: np.ndarray, short: np.ndarray) -> np.ndarray:
     return ~np.asarray(on, dtype=bool) | np.asarray(short, dtype=bool)
 
 
-def deficit_day_mask(short_hours: np.ndarray) -> np.ndarray:
-    """Days (…, 365) with at least one hour of unmet demand, from hourly flags (…, 8760)."""
-    short = np.asarray(short_hours, dtype=bool)
-    return short.reshape(*short.shape[:-1], 365, 24).any(axis=-1)
+def deficit_day_mask(off_or_short_hours: np.ndarray) -> np.ndarray:
+    """Deficit days (…, 365): days with at least one hour in which the node was off or ran short, from
+    the hourly flags of :func:`dark_hours` (…, 8760)."""
+    dark = np.asarray(off_or_short_hours, dtype=bool)
+    return dark.reshape(*dark.shape[:-1], 365, 24).any(axis=-1)
 
 
-def deficit_days(short_hours: np.ndarray) -> np.ndarray:
-    """Number of deficit days per configuration, from hourly flags (…, 8760)."""
-    return deficit_day_mask(short_hours).sum(axis=-1)
+def deficit_days(off_or_short_hours: np.ndarray) -> np.ndarray:
+    """Number of deficit days per configuration, from the hourly flags of :func:`dark_hours` (…, 8760)."""
+    return deficit_day_mask(off_or_short_hours).sum(axis=-1)
 
 
 def first_wake_hours(on: np.ndarray) -> np.ndarray:
@@ -83,10 +88,19 @@ def monthly_energy_wh(power_w: np.ndarray) -> np.ndarray:
     return monthly_sum(power_w)  # 1 h steps: W x 1 h = Wh
 
 
+def annual_demand_wh(demand_j: np.ndarray) -> float:
+    """Energy the node draws over the year [Wh] from hourly energy [J]."""
+    return float(np.sum(demand_j) / J_PER_WH)
+
+
+def monthly_demand_wh(demand_j: np.ndarray) -> np.ndarray:
+    """Energy the node draws per month [Wh] (…, 12) from hourly energy [J] (…, 8760)."""
+    return monthly_sum(demand_j) / J_PER_WH
+
+
 def monthly_margin(into_store_w: np.ndarray, demand_j: np.ndarray) -> np.ndarray:
     """Energy into the store over energy the node drew, per month [-]."""
-    demand = monthly_sum(demand_j) / J_PER_WH
-    return monthly_energy_wh(into_store_w) / np.maximum(demand, 1e-30)
+    return monthly_energy_wh(into_store_w) / np.maximum(monthly_demand_wh(demand_j), 1e-30)
 
 
 def worst_month(into_store_w: np.ndarray, demand_j: np.ndarray) -> int:

@@ -22,7 +22,7 @@ from .errors import ChoiceError, SiteInputError, one_line
 from .fields import Section, quantity
 from .files import FolderFiles, SiteFiles
 from .schedule import parse_date
-from .sources import SOURCE_KINDS, AnySource
+from .sources import SOURCE_KINDS, AnySource, on_kinds_changed, source_union
 from .store import StoreSpec
 from .weather import WeatherSpec
 
@@ -97,6 +97,15 @@ class SiteSpec(Section):
         return self._file
 
 
+def _rebuild_sources() -> None:
+    """Take the registered source kinds into the site-file model (after a kind is added or removed)."""
+    SiteSpec.model_fields["source"].annotation = list[source_union()]  # type: ignore[misc]
+    SiteSpec.model_rebuild(force=True)
+
+
+on_kinds_changed(_rebuild_sources)
+
+
 _TOML_LINE = re.compile(r"line (\d+)")
 #: Largest site file read [characters]: real ones are a few kB.
 MAX_SITE_CHARS = 1_000_000
@@ -141,7 +150,7 @@ def _long_number_line(text: str) -> int | None:
     return text.count("\n", 0, match.start()) + 1 if match else None
 
 
-_UNION_TAGS = frozenset(SOURCE_KINDS) | {"supercapacitor", "rechargeable"}
+_STORE_TAGS = frozenset({"supercapacitor", "rechargeable"})
 
 
 def _field_path(loc: tuple[Any, ...], data: Any) -> str:
@@ -158,7 +167,7 @@ def _field_path(loc: tuple[Any, ...], data: Any) -> str:
             else:
                 parts.append(label)
             node = item
-        elif key in _UNION_TAGS and not (isinstance(node, dict) and key in node):
+        elif (key in SOURCE_KINDS or key in _STORE_TAGS) and not (isinstance(node, dict) and key in node):
             continue
         elif str(key).startswith(("function-", "tuple[", "list[", "json-or-python")):
             continue
@@ -251,8 +260,6 @@ def parse_site(data: dict[str, Any], *, file: str = "<site>", base_dir: Path | N
         spec = SiteSpec.model_validate(data)
     except ValidationError as exc:
         raise site_error(exc, data, file, text) from None
-    except SiteInputError as exc:   # a validator that read a named file
-        raise exc.with_file(file) from None
     except (RecursionError, TypeError, KeyError, IndexError, AttributeError, OverflowError, ValueError) as exc:
         # a validator met a shape it did not expect: still one line, never a traceback
         raise SiteInputError(f"a site file the checker can read (it stopped on a {type(exc).__name__})",

@@ -32,7 +32,6 @@ from .fields import Section, quantity
 from .timegrid import SECONDS_PER_HOUR
 
 HOURS_PER_MONTH = 730.0
-HOURS_PER_YEAR_F = 8760.0
 
 # Figures from memory (Linden's Handbook of Batteries, 4th ed.), typical of each chemistry.
 CELL_PRESETS: dict[str, dict[str, Any]] = {

@@ -69,7 +69,8 @@ def test_each_kind_starts_from_its_own_preset():
     """A partial conditioning table fills the rest from the kind's default preset, not another kind's."""
     from siteharvest.sources import SOURCE_KINDS
 
-    for kind, (model, _) in SOURCE_KINDS.items():
+    for kind, record in SOURCE_KINDS.items():
+        model = record.model
         extra = {"preset": "healthy-pump-50hz"} if kind == "vibration" else {}
         own = model(id="x", **extra).conditioning.preset
         partial = model(id="x", conditioning={"quiescent_ua": 0.1}, **extra).conditioning

@@ -24,6 +24,7 @@ from siteharvest_app.figures_sizing import (
 )
 
 from siteharvest.sizing import SizingMap, WeatherRisk, frontier_and_pick
+from siteharvest.sources import SOURCE_KINDS
 
 
 def make_map(dd: np.ndarray, *, kind: str = "solar", h_field: str = "area_cm2", h_unit: str = "cm2",
@@ -32,8 +33,10 @@ def make_map(dd: np.ndarray, *, kind: str = "solar", h_field: str = "area_cm2", 
     hs = np.geomspace(1.0, 64.0, n_h) if h_sizes is None else h_sizes
     ss = np.geomspace(0.1, 3.2, n_s) if s_sizes is None else s_sizes
     front, pick = frontier_and_pick(dd <= target)
+    knob = SOURCE_KINDS[kind].knob(h_field)   # as sizing_map fills them in: from the kind's record
     return SizingMap("panel", kind, h_field, h_unit, hs, float(hs[1]), "capacitance_f", "F", ss, float(ss[1]),
-                     dd, np.full(dd.shape, 12.0), target, front, pick)
+                     dd, np.full(dd.shape, 12.0), target, front, pick, harvester_label=knob.label,
+                     smaller_is_more=knob.smaller_is_more)
 
 
 def staircase(n_h: int = 7, n_s: int = 6) -> np.ndarray:

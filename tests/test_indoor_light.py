@@ -78,11 +78,12 @@ def tmy_ctx() -> SpotContext:
 # --------------------------------------------------------------------------------------------------
 
 def test_registered_with_its_class_attributes():
-    assert SOURCE_KINDS["indoor_light"] == (IndoorLightSource, indoor_light_output)
+    record = SOURCE_KINDS["indoor_light"]
+    assert (record.model, record.output) == (IndoorLightSource, indoor_light_output)
     spec = IndoorLightSource(id="desk")
     assert spec.kind == "indoor_light"
-    assert IndoorLightSource.size_field == "area_cm2"
-    assert set(IndoorLightSource.cautions) == {"work_at_height", "electrical_enclosure"}
+    assert record.knob().field == "area_cm2" and record.knob().proportional
+    assert set(record.cautions) == {"work_at_height", "electrical_enclosure"}
     assert spec.conditioning.preset == "solar-cell-boost"
     assert spec.lamp_schedule.hours == "07-19" and spec.lamp_schedule.days == "weekdays"
 

@@ -13,6 +13,7 @@ from pydantic import ValidationError
 from validation import external_check
 
 from siteharvest.context import SpotContext
+from siteharvest.sources import SOURCE_KINDS
 from siteharvest.sources.rf import (
     DEFAULT_RECTIFIER_CURVE,
     RfSource,
@@ -49,11 +50,11 @@ def ctx() -> SpotContext:
                 value="45.658 dB; -9.658 dBm", source="Friis 1946, Proc. IRE 34(5):254-256; worked by hand",
                 tolerance="0.01 dB")
 def test_friis_worked_case():
-    # references.md 4.1 [M, Friis 1946]: FSPL(dB) = 20 log10 d[m] + 20 log10 f[Hz] - 147.55.
-    # Worked case: 915 MHz, 36 dBm EIRP, 0 dBi receive antenna, 5 m:
-    # FSPL = 13.979 + 179.228 - 147.55 = 45.658 dB -> P_r = 36 - 45.658 = -9.658 dBm.
-    fspl_db = 20 * math.log10(5.0) + 20 * math.log10(915e6) - 147.55
-    expected_dbm = 36.0 + 0.0 - fspl_db
+    # Worked case of the Friis free-space loss (Friis 1946; ITU-R P.525-4 eq. 4 in its km/MHz form,
+    # 32.45 + 20 log10 f[MHz] + 20 log10 d[km]), worked by hand: 915 MHz, 5 m:
+    # 32.45 + 59.228 - 46.021 = 45.658 dB; with 36 dBm EIRP and a 0 dBi antenna P_r = -9.658 dBm.
+    fspl_db = 45.658
+    expected_dbm = -9.658
     loss = float(free_space_path_loss_db(5.0, 915e6))
     assert loss == pytest.approx(fspl_db, abs=0.01)
     assert float(received_power_dbm(36.0, loss, 0.0)) == pytest.approx(expected_dbm, abs=0.01)
@@ -67,18 +68,18 @@ def test_friis_worked_case():
                 value="S = EIRP / (4 pi d^2), A_e = lambda^2 G / (4 pi); P_r = S A_e = 3.861e-6 W",
                 source="Friis 1946, Proc. IRE 34(5):254-256; worked by hand", tolerance="1e-5 relative")
 def test_friis_power_density_form():
-    # references.md 4.1 [M]: S = EIRP / (4 pi d^2) and A_e = lambda^2 G / (4 pi); P_r = S A_e must equal
-    # the dB form. 1 W EIRP, 2450 MHz, 3 dBi, 7 m.
-    lam = C_M_S / 2450e6
-    s_w_m2 = 1.0 / (4 * math.pi * 7.0**2)
-    a_e = lam**2 * 10 ** (3 / 10) / (4 * math.pi)
-    assert float(effective_aperture_m2(2450e6, 3.0)) == pytest.approx(a_e, rel=1e-12)
+    # Friis 1946 in power-density form, S = EIRP / (4 pi d^2) and A_e = lambda^2 G / (4 pi), worked by hand
+    # for 1 W EIRP, 2450 MHz (lambda = 0.12236 m), 3 dBi, 7 m: S = 1.62403e-3 W/m2, A_e = 2.37738e-3 m2,
+    # P_r = 3.86094e-6 W (-24.133 dBm). The model's dB form must give the same.
+    s_w_m2 = 1.62403e-3
+    a_e = 2.37738e-3
+    assert float(effective_aperture_m2(2450e6, 3.0)) == pytest.approx(a_e, rel=1e-5)
     p_dbm = float(received_power_dbm(30.0, free_space_path_loss_db(7.0, 2450e6), 3.0))
-    assert float(dbm_to_w(p_dbm)) == pytest.approx(s_w_m2 * a_e, rel=1e-9)
+    assert float(dbm_to_w(p_dbm)) == pytest.approx(3.86094e-6, rel=1e-5)
     out = rf_output(RfSource(id="r", eirp_dbm=30.0, frequency_mhz=2450.0, distance_m=7.0, rx_gain_dbi=3.0,
                              extra_loss_db=0.0), ctx_default())
     # 1 W/m2 = 100 uW/cm2
-    assert out.details["incident_density_uw_cm2"][0] == pytest.approx(s_w_m2 * 100.0, rel=1e-9)
+    assert out.details["incident_density_uw_cm2"][0] == pytest.approx(s_w_m2 * 100.0, rel=1e-5)
 
 
 @pytest.mark.parametrize("distance_m", [0.3, 1.0, 2.5, 17.0, 400.0])
@@ -266,8 +267,8 @@ def test_model_defaults():
     spec = RfSource(id="r")
     assert spec.conditioning.preset == "rf-dc-boost"
     assert RfSource(id="r", conditioning={"quiescent_ua": 0.2}).conditioning.preset == "rf-dc-boost"
-    assert RfSource.size_field == "distance_m"
-    assert RfSource.cautions == ("rf_exposure", "work_at_height")
+    assert SOURCE_KINDS["rf"].knob().field == "distance_m" and SOURCE_KINDS["rf"].knob().smaller_is_more
+    assert SOURCE_KINDS["rf"].cautions == ("rf_exposure", "work_at_height")
 
 
 @pytest.mark.parametrize(("field", "value"), [

@@ -626,11 +626,12 @@ def test_preset_with_spectrum_file_is_an_error():
 
 
 def test_registered_and_declared():
-    model, fn = SOURCE_KINDS["vibration"]
-    assert model is VibrationSource and fn is vibration_output
-    assert VibrationSource.size_field == "proof_mass_g"
-    assert VibrationSource.size_field in VibrationSource.model_fields
-    assert set(VibrationSource.cautions) == {"rotating_machinery", "work_at_height", "electrical_enclosure"}
+    record = SOURCE_KINDS["vibration"]
+    assert record.model is VibrationSource and record.output is vibration_output
+    assert record.knob().field == "proof_mass_g" and not record.knob().proportional
+    assert record.knob().field in VibrationSource.model_fields
+    assert set(record.cautions) == {"rotating_machinery", "work_at_height", "electrical_enclosure"}
+    assert record.outage_stops and record.file_fields == ("spectrum_file",)
     spec = VibrationSource(id="v", preset="healthy-pump-50hz")
     assert spec.conditioning.preset == "ac-rectifier-buck"
     assert spec.reservoir_v == "tracked"

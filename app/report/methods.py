@@ -12,41 +12,17 @@ import inspect
 import re
 from collections.abc import Iterable
 
-# Modules whose docstrings cite the methods used for each source kind.
-KIND_MODULES: dict[str, tuple[str, ...]] = {
-    "solar": ("siteharvest.sources.solar", "siteharvest.sun"),
-    "indoor_light": ("siteharvest.sources.indoor_light", "siteharvest.photometry", "siteharvest.sun"),
-    "thermoelectric": ("siteharvest.sources.thermoelectric",),
-    "vibration": ("siteharvest.sources.vibration", "siteharvest.vibration_spectrum"),
-    "rf": ("siteharvest.sources.rf",),
-}
+from siteharvest.metrics import DEFICIT_DAY
+from siteharvest.sources import KindTable
+
+# Modules whose docstrings cite the methods used for each source kind (from the kinds' records).
+KIND_MODULES = KindTable("reference_modules")
 COMMON_MODULES = ("siteharvest.conditioning", "siteharvest.store")
 SIZING_MODULES = ("siteharvest.sizing",)
 SYNTHETIC_WEATHER_MODULES = ("siteharvest.synthetic_weather",)
 
-# Our plain-words summary of each model, for the reader of the report.
-KIND_METHODS: dict[str, str] = {
-    "solar": ("Outdoor panel: plane-of-array irradiance from the weather year's global, beam and diffuse "
-              "irradiance by a sky-transposition model, less the far horizon, incidence-angle losses and "
-              "soiling; cell temperature from irradiance, air temperature and wind; efficiency at maximum power "
-              "from an irradiance- and temperature-dependent efficiency model."),
-    "indoor_light": ("Indoor cell: illuminance from the lamps while their schedule and occupancy have them lit, "
-                     "plus daylight as a daylight factor times the outdoor diffuse illuminance; illuminance "
-                     "turned into irradiance through each light's spectrum; cell efficiency weighted by the "
-                     "cell's spectral match to each light and lowered at low light by the open-circuit voltage's "
-                     "logarithmic fall."),
-    "thermoelectric": ("Thermoelectric module: the hot surface's temperature by schedule, a file or a constant; "
-                       "a thermal circuit of contact resistances, the module and a free-convection and radiation "
-                       "heat sink, solved for the temperature difference across the module; power into a "
-                       "matched load."),
-    "vibration": ("Vibration harvester: a linear resonant mass-spring-damper driven by the spot's vibration "
-                  "components (survey spectrum or peaks), power from the electrical share of the damping, "
-                  "frequency drift averaged, travel limited by raising the electrical damping, then the "
-                  "rectifier; only while the machine runs."),
-    "rf": ("RF: received power from the transmitter's EIRP, the path loss (free space or log-distance) and the "
-           "receiving antenna's gain, less extra losses, while the transmitter runs; DC power from the "
-           "rectifier's efficiency curve above its sensitivity."),
-}
+# Our plain-words summary of each model, for the reader of the report (from the kinds' records).
+KIND_METHODS = KindTable("method")
 
 GENERAL_ASSUMPTIONS: tuple[str, ...] = (
     "The year is a reference year of 8,760 hourly steps in the spot's local standard time (no daylight "
@@ -55,9 +31,8 @@ GENERAL_ASSUMPTIONS: tuple[str, ...] = (
     "plausible year, not a forecast.",
     "Energies are those reaching the store after power conditioning (tracking, converter efficiency, "
     "cold start and quiescent draw).",
-    "A deficit day is a calendar day on which some scheduled task could not run because the store was at "
-    "its cut-off. It is counted over a steady-state year: a warm-up year is simulated first, so the store's "
-    "state on 1 January is what the year itself leaves.",
+    f"A deficit day is {DEFICIT_DAY}. The warm-up year makes the store's state on 1 January what the year "
+    "itself leaves.",
     "First wake is counted from installation with an empty store, by default on the first day of the "
     "source's worst month; the longest outage is the longest run of hours off after that first wake.",
     "Backup cell life is the years until a primary cell covering what the harvester cannot supply is "

@@ -57,7 +57,7 @@ CIE 015:2018 Colorimetry, 4th ed.; BS 8206-2 / CIE daylight factor definition.
 from __future__ import annotations
 
 from functools import cache
-from typing import Any, ClassVar, Literal
+from typing import Any, Literal
 
 import numpy as np
 from pydantic import Field, model_validator
@@ -68,7 +68,7 @@ from ..context import SpotContext
 from ..errors import SiteInputError
 from ..fields import quantity
 from ..schedule import WeeklySchedule
-from .base import SourceBase, SourceOutput
+from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 BOLTZMANN_OVER_Q_V_K = 8.617333262e-5  # k/q [V/K] (CODATA 2018)
 HC_OVER_Q_NM_V = 1239.84198            # h c / q [V nm]: photon energy [eV] = 1239.84 / wavelength [nm]
@@ -336,9 +336,6 @@ class IndoorLightSource(SourceBase):
     Cell figures start from ``technology`` (one of :data:`TECHNOLOGIES`); any given figure overrides.
     """
 
-    size_field: ClassVar[str] = "area_cm2"
-    cautions: ClassVar[tuple[str, ...]] = ("work_at_height", "electrical_enclosure")
-
     kind: Literal["indoor_light"] = "indoor_light"
     area_cm2: float = quantity(20.0, "cm2", "active cell area", gt=0, le=2000, step=1)
     technology: Technology = Field(DEFAULT_TECHNOLOGY, description="cell technology: one of "
@@ -460,3 +457,20 @@ def indoor_light_output(spec: IndoorLightSource, ctx: SpotContext) -> SourceOutp
         },
         notes=notes,
     )
+
+
+#: What the rest of the program needs to know about this kind (registered in ``sources/__init__.py``).
+KIND = SourceKind(
+    kind="indoor_light", model=IndoorLightSource, output=indoor_light_output, name="indoor light cell",
+    group="light", group_title="Light indoors",
+    size_knobs=(SizeKnob("area_cm2", "Cell area", proportional=True),),
+    presets=(PresetField("technology", "indoor-technology", TECHNOLOGIES),),
+    new_source={"area_cm2": 20.0},
+    cautions=("work_at_height", "electrical_enclosure"),
+    method=("Indoor cell: illuminance from the lamps while their schedule and occupancy have them lit, "
+            "plus daylight as a daylight factor times the outdoor diffuse illuminance; illuminance "
+            "turned into irradiance through each light's spectrum; cell efficiency weighted by the "
+            "cell's spectral match to each light and lowered at low light by the open-circuit voltage's "
+            "logarithmic fall."),
+    reference_modules=("siteharvest.sources.indoor_light", "siteharvest.photometry", "siteharvest.sun"),
+)

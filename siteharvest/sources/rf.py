@@ -31,7 +31,7 @@ voltage across the rectifier's load while the field is present.
 from __future__ import annotations
 
 from itertools import pairwise
-from typing import Any, ClassVar, Literal
+from typing import Any, Literal
 
 import numpy as np
 from pydantic import Field, field_validator
@@ -41,7 +41,7 @@ from ..context import SpotContext
 from ..fields import quantity
 from ..schedule import WeeklySchedule
 from ..timegrid import HOURS_PER_YEAR
-from .base import SourceBase, SourceOutput
+from .base import SizeKnob, SourceBase, SourceKind, SourceOutput
 
 SPEED_OF_LIGHT_M_S = 299_792_458.0
 
@@ -68,8 +68,6 @@ COMMON_EIRP_LIMIT_DBM = 36.0
 class RfSource(SourceBase):
     """RF harvesting: a rectifying antenna fed by a dedicated transmitter or by the ambient field."""
 
-    size_field: ClassVar[str] = "distance_m"
-    cautions: ClassVar[tuple[str, ...]] = ("rf_exposure", "work_at_height")
 
     kind: Literal["rf"] = "rf"
     mode: Literal["dedicated", "ambient"] = Field("dedicated", description="'dedicated': a transmitter "
@@ -407,3 +405,15 @@ def rf_output(spec: RfSource, ctx: SpotContext) -> SourceOutput:
         },
         notes=notes,
     )
+
+
+#: What the rest of the program needs to know about this kind (registered in ``sources/__init__.py``).
+KIND = SourceKind(
+    kind="rf", model=RfSource, output=rf_output, name="RF receiver", group="rf", group_title="RF beam",
+    size_knobs=(SizeKnob("distance_m", "Distance from the transmitter", smaller_is_more=True),),
+    cautions=("rf_exposure", "work_at_height"),
+    method=("RF: received power from the transmitter's EIRP, the path loss (free space or log-distance) and the "
+            "receiving antenna's gain, less extra losses, while the transmitter runs; DC power from the "
+            "rectifier's efficiency curve above its sensitivity."),
+    reference_modules=("siteharvest.sources.rf",),
+)

@@ -20,7 +20,7 @@ Hours whose mid-hour sun is below the astronomical horizon give zero.
 
 from __future__ import annotations
 
-from typing import Annotated, Any, ClassVar, Literal
+from typing import Annotated, Any, Literal
 
 import numpy as np
 import pvlib
@@ -32,7 +32,7 @@ from ..context import SpotContext
 from ..errors import choose
 from ..fields import quantity
 from ..sun import angle_of_incidence_deg
-from .base import SourceBase, SourceOutput
+from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 G_REF_W_M2 = 1000.0
 T_REF_C = 25.0
@@ -137,9 +137,6 @@ HorizonPoint = tuple[Annotated[float, Field(ge=0, le=360)], Annotated[float, Fie
 
 class SolarSource(SourceBase):
     """An outdoor PV panel. Starts from ``technology`` and ``mounting`` presets; given fields override."""
-
-    size_field: ClassVar[str] = "area_cm2"
-    cautions: ClassVar[tuple[str, ...]] = ("work_at_height", "electrical_enclosure")
 
     kind: Literal["solar"] = "solar"
     tilt_deg: float = quantity(30.0, "deg", "tilt of the panel from horizontal (90 = facade)",
@@ -676,3 +673,20 @@ __all__ = [
     "cover_transmission", "horizon_elevation_deg", "horizon_view_fractions", "panel_mpp_voltage_v",
     "plane_of_array_components", "relative_efficiency", "solar_output",
 ]
+
+
+#: What the rest of the program needs to know about this kind (registered in ``sources/__init__.py``).
+KIND = SourceKind(
+    kind="solar", model=SolarSource, output=solar_output, name="solar panel",
+    group="mounting", group_title="Mounting and sun",
+    size_knobs=(SizeKnob("area_cm2", "Cell area", proportional=True),),
+    presets=(PresetField("technology", "solar-technology", TECHNOLOGY_PRESETS),
+             PresetField("mounting", "solar-mounting", MOUNTING_PRESETS)),
+    new_source={"area_cm2": 10.0, "tilt_deg": 30.0},
+    cautions=("work_at_height", "electrical_enclosure"),
+    method=("Outdoor panel: plane-of-array irradiance from the weather year's global, beam and diffuse "
+            "irradiance by a sky-transposition model, less the far horizon, incidence-angle losses and "
+            "soiling; cell temperature from irradiance, air temperature and wind; efficiency at maximum power "
+            "from an irradiance- and temperature-dependent efficiency model."),
+    reference_modules=("siteharvest.sources.solar", "siteharvest.sun"),
+)

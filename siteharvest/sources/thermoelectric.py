@@ -42,7 +42,7 @@ from __future__ import annotations
 import io
 import re
 from pathlib import Path
-from typing import Annotated, Any, ClassVar, Literal
+from typing import Annotated, Any, Literal
 
 import numpy as np
 import pandas as pd
@@ -55,7 +55,7 @@ from ..errors import SiteInputError, choose
 from ..fields import Section, quantity
 from ..schedule import WeeklySchedule
 from ..timegrid import HOURS_PER_YEAR
-from .base import SourceBase, SourceOutput
+from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 KELVIN = 273.15
 STEFAN_BOLTZMANN = 5.670374419e-8  # W/(m2 K4), CODATA 2018 (exact from SI defining constants)
@@ -70,15 +70,15 @@ AIR_CP = 1006.0  # J/(kg K), dry air near room temperature
 MODULE_PRESETS: dict[str, dict[str, float]] = {
     "small-bismuth-telluride-module-15mm": {
         "seebeck_v_k": 0.0124, "resistance_ohm": 0.49, "module_thermal_resistance_k_w": 8.2,
-        "module_side_mm": 15.0, "max_hot_side_c": 150.0,
+        "max_hot_side_c": 150.0,
     },
     "medium-bismuth-telluride-module-30mm": {
         "seebeck_v_k": 0.0284, "resistance_ohm": 1.12, "module_thermal_resistance_k_w": 3.6,
-        "module_side_mm": 30.0, "max_hot_side_c": 150.0,
+        "max_hot_side_c": 150.0,
     },
     "large-bismuth-telluride-module-40mm": {
         "seebeck_v_k": 0.0508, "resistance_ohm": 2.0, "module_thermal_resistance_k_w": 2.0,
-        "module_side_mm": 40.0, "max_hot_side_c": 150.0,
+        "max_hot_side_c": 150.0,
     },
 }
 DEFAULT_MODULE = "medium-bismuth-telluride-module-30mm"
@@ -143,8 +143,6 @@ class ThermoelectricSource(SourceBase):
     Module figures start from ``preset`` (one of :data:`MODULE_PRESETS`); any given figure overrides.
     """
 
-    size_field: ClassVar[str] = "modules"
-    cautions: ClassVar[tuple[str, ...]] = ("hot_surface", "work_at_height")
 
     kind: Literal["thermoelectric"] = "thermoelectric"
     preset: str = Field(DEFAULT_MODULE, description="module figures to start from: one of "
@@ -154,7 +152,6 @@ class ThermoelectricSource(SourceBase):
     resistance_ohm: float = quantity(1.12, "ohm", "module electrical resistance", gt=0, le=10000, step=0.01)
     module_thermal_resistance_k_w: float = quantity(3.6, "K/W", "module thermal resistance, hot to cold "
                                                     "face", gt=0, le=1000, step=0.1)
-    module_side_mm: float = quantity(30.0, "mm", "module side length (square module)", gt=0, le=200)
     max_hot_side_c: float = quantity(150.0, "degC", "highest hot-side temperature the module is rated "
                                      "for", ge=0, le=1000)
     modules: int = quantity(1, "-", "number of modules, each with its own contacts and heat sink", ge=1,
@@ -741,3 +738,23 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         },
         notes=notes,
     )
+
+
+#: What the rest of the program needs to know about this kind (registered in ``sources/__init__.py``).
+KIND = SourceKind(
+    kind="thermoelectric", model=ThermoelectricSource, output=thermoelectric_output,
+    name="thermoelectric module", group="heat", group_title="Heat",
+    size_knobs=(SizeKnob("modules", "Thermoelectric modules", proportional=True,
+                         voltage_scales=lambda spec: spec.wiring == "series"),
+                SizeKnob("heat_sink.area_cm2", "Heat-sink area")),
+    outage_stops=True,
+    file_fields=("hot_side.file",),
+    presets=(PresetField("preset", "thermo-module", MODULE_PRESETS),),
+    new_source={"hot_side": {"mode": "constant", "surface_c": 60.0}},
+    cautions=("hot_surface", "work_at_height"),
+    method=("Thermoelectric module: the hot surface's temperature by schedule, a file or a constant; "
+            "a thermal circuit of contact resistances, the module and a free-convection and radiation "
+            "heat sink, solved for the temperature difference across the module; power into a "
+            "matched load."),
+    reference_modules=("siteharvest.sources.thermoelectric",),
+)

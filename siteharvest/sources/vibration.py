@@ -55,7 +55,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
-from typing import Any, ClassVar, Literal
+from typing import Any, Literal
 
 import numpy as np
 from pydantic import Field, ValidationInfo, field_validator, model_validator
@@ -73,7 +73,7 @@ from ..vibration_spectrum import (
     spectral_peaks,
     unit_factor,
 )
-from .base import SourceBase, SourceOutput
+from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 TWO_PI = 2.0 * math.pi
 SQRT2 = math.sqrt(2.0)
@@ -331,8 +331,6 @@ class VibrationSource(SourceBase):
     ``spectrum_file`` survey. Damping is given as damping ratios (quality factor Q = 1 / (2 zeta)).
     """
 
-    size_field: ClassVar[str] = "proof_mass_g"
-    cautions: ClassVar[tuple[str, ...]] = ("rotating_machinery", "work_at_height", "electrical_enclosure")
 
     kind: Literal["vibration"] = "vibration"
     preset: str | None = Field(None, description="a source of vibration whose spectrum to start from: "
@@ -770,3 +768,23 @@ __all__ = [
     "running_point",
     "vibration_output",
 ]
+
+
+#: What the rest of the program needs to know about this kind (registered in ``sources/__init__.py``).
+KIND = SourceKind(
+    kind="vibration", model=VibrationSource, output=vibration_output, name="vibration harvester",
+    group="vibration", group_title="Vibration",
+    size_knobs=(SizeKnob("proof_mass_g", "Proof mass"),),
+    outage_stops=True,
+    file_fields=("spectrum_file",),
+    presets=(PresetField("preset", "vibration-source", VIBRATION_PRESETS,
+                         clears=("spectrum_file", "spectrum_unit", "spectrum_measure", "value_column")),),
+    new_source={"preset": next(iter(VIBRATION_PRESETS))},
+    upload="spectrum",
+    cautions=("rotating_machinery", "work_at_height", "electrical_enclosure"),
+    method=("Vibration harvester: a linear resonant mass-spring-damper driven by the spot's vibration "
+            "components (survey spectrum or peaks), power from the electrical share of the damping, "
+            "frequency drift averaged, travel limited by raising the electrical damping, then the "
+            "rectifier; only while the machine runs."),
+    reference_modules=("siteharvest.sources.vibration", "siteharvest.vibration_spectrum"),
+)
