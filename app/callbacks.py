@@ -16,11 +16,12 @@ from typing import Any
 import dash
 import numpy as np
 from dash import ALL, ClientsideFunction, Input, Output, State, html, no_update
-from dash.exceptions import PreventUpdate
+from dash.exceptions import MissingCallbackContextException, PreventUpdate
 
 from siteharvest.cautions import DEFER
 from siteharvest.errors import SiteInputError
 from siteharvest.files import ListedFiles, named_in_dict
+from siteharvest.findings import case_label, headline, source_inputs, weather_warning
 from siteharvest.site import SiteSpec, dump_site, parse_site, parse_site_text
 from siteharvest.vibration_spectrum import read_spectrum_csv
 
@@ -57,7 +58,7 @@ def _trigger() -> Trigger:
 def _triggered_id() -> Any:
     try:
         return dash.ctx.triggered_id
-    except Exception:  # called outside a Dash request (tests, benchmarks)
+    except MissingCallbackContextException:  # called outside a Dash request (tests, benchmarks)
         return None
 
 
@@ -354,6 +355,9 @@ def _summary_table(a: Any) -> html.Table:
             elif col == "verdict":
                 cells.append(html.Td(html.Span(r["verdict"], className=f"sh-verdict {r['verdict_class']}"),
                                      className="sh-col-verdict"))
+            elif col == "status":
+                cells.append(html.Td(r["status"], className=f"sh-col-status sh-target-{r['status'].replace(' ', '-')}",
+                                     title=r["finding"]))
             else:
                 cells.append(html.Td(r[col], className=f"sh-col-{col}"))
         body.append(html.Tr(cells, className="sh-row-combined" if r["combined"] else None))
@@ -371,6 +375,22 @@ def _cautions(a: Any) -> list[Any]:
     ])
     return [html.Details([summary, html.Ul(items)], className="sh-caution-box"),
             html.P(DEFER, className="sh-defer")]
+
+
+def _headline(a: Any) -> list[Any]:
+    """The answer and why (from the library's findings), the far-weather warning, and what needs a survey."""
+    top = headline(a)
+    out: list[Any] = [html.P([html.Strong(top.answer + " "), top.sentence, " ",
+                              html.Span(top.reason, className="sh-why")], className="sh-headline", id="sh-headline")]
+    far = weather_warning(a)
+    if far is not None:
+        out.append(html.P([html.Strong("Weather year far from the spot: "), far.sentence,
+                           " In the editor, set Weather to a synthetic year, or upload a weather file from near "
+                           "the spot."], className="sh-status-bad sh-far-weather", role="alert"))
+    for si in map(source_inputs, a.spec.source):
+        if si.needs_survey:
+            out.append(html.P([html.Strong("Needs a survey: "), si.sentence], className="sh-needs-survey"))
+    return out
 
 
 def _notes(a: Any) -> list[Any]:
@@ -403,8 +423,8 @@ def recompute(spots: dict[str, Any], key: str, session: str | None,
         html.Span(f"usable store {a.usable_energy_j:.3g} J"),
         html.Span(f"{len(a.sources)} source{'s' if len(a.sources) != 1 else ''}"),
     ], className="sh-status-ok")
-    options = [{"label": f"{c.id} ({c.verdict})" if c.kind != "combined" else f"all sources together ({c.verdict})",
-                "value": c.id} for c in a.cases]
+    status = html.Div([status, *_headline(a)])
+    options = [{"label": f"{case_label(c.id)} ({c.verdict})", "value": c.id} for c in a.cases]
     values = [o["value"] for o in options]
     value = case_value if case_value in values else values[0]
     return (status, _summary_table(a), _cautions(a), _notes(a), sources_figure(a), options,

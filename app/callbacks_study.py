@@ -16,21 +16,21 @@ from pathlib import Path
 from typing import Any
 
 import dash
-import numpy as np
 from dash import Input, Output, State, dcc, html, no_update
-from dash.exceptions import PreventUpdate
+from dash.exceptions import MissingCallbackContextException, PreventUpdate
 
 from siteharvest.assess import COMBINED_ID, Assessment, CaseResult
 from siteharvest.errors import SiteInputError
+from siteharvest.findings import case_finding, case_label, interval_finding, sizing_finding
 from siteharvest.site import SiteSpec
 from siteharvest.sizing import (
-    OUTAGE_KINDS,
     SEED_RANGE,
     ReportInterval,
     SizingMap,
     WeatherRisk,
     report_interval,
     sizing_map,
+    stops_in_outage,
     weather_risk,
 )
 
@@ -44,7 +44,7 @@ from .engine import (
     spec_for,
 )
 from .figures import empty_figure, find_case
-from .figures_sizing import SIZE_LABELS, risk_histogram, sizing_heatmap
+from .figures_sizing import risk_histogram, sizing_heatmap
 from .layout_study import (
     OUTAGE_DAYS_MAX,
     OUTAGE_DAYS_MIN,
@@ -86,7 +86,7 @@ def _number(value: Any, low: float, high: float) -> float | None:
 
 
 def _case_name(case_id: str) -> str:
-    return "all sources together" if case_id == COMBINED_ID else case_id
+    return case_label(case_id)
 
 
 def _not_simulated(exc: Exception) -> html.Div:
@@ -124,90 +124,27 @@ def sizing_study(a: Assessment, record: dict[str, Any], session: str | None, cas
     return SIZING_STUDIES.get_or_make(key, make)
 
 
-def _size(value: float, unit: str, field: str = "") -> str:
-    from .report.html import fmt_size
-
-    return fmt_size(value, unit, field)
-
-
-def _interval(seconds: float) -> str:
-    from .report.html import fmt_interval_s
-
-    return fmt_interval_s(seconds)
-
-
 def sizing_words(a: Assessment, case: CaseResult, m: SizingMap | None, iv: ReportInterval | None,
                  target: int) -> list[Any]:
-    """The plain-words lines under the sizing map: target, pick (or none), edge, fastest reporting."""
+    """The plain-words lines under the sizing map, from the library's findings: as drawn, the pick (or
+    none), the edge, a bigger store doing worse, and the fastest sustainable reporting."""
     own = a.spec.run.target_deficit_days
-    meets = case.deficit_days <= target
-    lines: list[Any] = [html.P([
-        f"As drawn, {_case_name(case.id)} has {case.deficit_days} deficit day"
-        f"{'s' if case.deficit_days != 1 else ''} a year: it ",
-        html.Strong("meets" if meets else "misses", className="sh-good" if meets else "sh-bad"),
-        f" the target of at most {target}" + ("." if target == own else f" (tried here; the spot's own is {own})."),
-    ])]
-    if case.id == COMBINED_ID:
+    lines: list[Any] = []
+    if m is not None and case.id != COMBINED_ID:
+        found = sizing_finding(m, case, own_target=own)
+        lines.append(html.P(found.drawn_sentence, className="sh-good" if found.meets_as_drawn else "sh-bad"))
+        lines.append(html.P(" ".join(s for s in (found.pick_sentence, found.edge_sentence) if s), className="sh-pick"))
+        if found.bigger_store_sentence:
+            lines.append(html.P(found.bigger_store_sentence, className="sh-note"))
+    else:
+        f = case_finding(a, case)
+        tried = "" if target == own else f" (tried here with at most {target}; the spot's own is {own})"
+        lines.append(html.P(f.sentence[:-1] + tried + ".", className="sh-good" if f.meets_target else "sh-bad"))
         lines.append(html.P("The sizing map varies one source's harvester and the store: choose a single source "
                             "above to see it."))
-    elif m is not None and m.pick is not None:
-        i, j = m.pick
-        h_name = SIZE_LABELS.get(m.harvester_field, m.harvester_field).lower()
-        s_name = SIZE_LABELS.get(m.store_field, m.store_field).lower()
-        fw = m.first_wake_hours[i, j]
-        wake = f"first wake after {fw:,.0f} h" if math.isfinite(fw) else "no wake within 90 days"
-        edge = (" This sits at the edge of the map: smaller may pass too." if m.pick_at_edge else "")
-        lines.append(html.P([
-            "The pick (least harvester, then least store, that meets it): ",
-            html.Strong(_harvester_words(m, i, h_name)), " with ",
-            html.Strong(f"{s_name} {_size(m.store_sizes[j], m.store_unit)}"),
-            f" ({int(m.deficit_days[i, j])} deficit days, {wake}).{edge}",
-        ], className="sh-pick"))
-        if bigger_store_misses(m):
-            lines.append(html.P("Past a point a bigger store does worse here: it leaks more and takes longer to "
-                                "charge up to its turn-on voltage.", className="sh-note"))
-    elif m is not None:
-        fewest = int(m.deficit_days.min())
-        top = (f"{_size(m.harvester_sizes[-1], m.harvester_unit, m.harvester_field)} and "
-               f"{_size(m.store_sizes[-1], m.store_unit)}")
-        lines.append(html.P([html.Strong("Nothing in this map meets the target"),
-                             f": the fewest deficit days in it are {fewest} (the map goes up to {top})."],
-                            className="sh-pick"))
-    lines.append(html.P(_interval_words(a, iv)))
+    lines.append(html.P(interval_finding(iv).sentence if iv is not None
+                        else "The node has no task whose interval could change."))
     return lines
-
-
-def _harvester_words(m: SizingMap, i: int, name: str) -> str:
-    """``cell area 6.17 cm²``; counts name their thing once: ``2 thermoelectric modules``."""
-    n = m.harvester_sizes[i]
-    if m.harvester_field == "modules":
-        return f"{n:.3g} thermoelectric module{'' if n == 1 else 's'}"
-    return f"{name} {_size(n, m.harvester_unit, m.harvester_field)}"
-
-
-def bigger_store_misses(m: SizingMap) -> bool:
-    """Some harvester size meets the target with one store but misses it with a larger one."""
-    meets = m.deficit_days <= m.target_deficit_days
-    first = np.where(meets.any(axis=1), meets.argmax(axis=1), meets.shape[1])
-    later = np.arange(meets.shape[1])[None, :] > first[:, None]
-    return bool((later & ~meets).any())
-
-
-def _interval_words(a: Assessment, iv: ReportInterval | None) -> list[Any]:
-    if iv is None:
-        return ["The node has no task whose interval could change."]
-    task = next((t for t in a.spec.node.task if t.name == iv.task), None)
-    floor_s = max(task.duration_ms / 1000.0 * 1.001, 1.0) if task is not None else 1.0
-    drawn = f" (drawn: every {_interval(iv.drawn_every_s)})"
-    if iv.shortest_every_s is None:
-        return [f"Fastest sustainable reporting with the drawn harvester and store: none; even once a week "
-                f"'{iv.task}' misses the target{drawn}."]
-    if iv.shortest_every_s <= floor_s * (1 + 1e-9):
-        return ["Fastest sustainable reporting with the drawn harvester and store: '", iv.task, "' every ",
-                html.Strong(f"{_interval(iv.shortest_every_s)} or faster"),
-                f" (drawn: every {_interval(iv.drawn_every_s)}; the search goes no faster)."]
-    return ["Fastest sustainable reporting with the drawn harvester and store: '", iv.task, "' every ",
-            html.Strong(_interval(iv.shortest_every_s)), f"{drawn}."]
 
 
 SHOWN = {"height": "520px"}
@@ -253,7 +190,7 @@ def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[s
 
 
 def outage_note(a: Assessment) -> str:
-    hit = [s.id for s in a.spec.source if s.kind in OUTAGE_KINDS]
+    hit = [s.id for s in a.spec.source if stops_in_outage(s.kind)]
     if not hit:
         return "Outages stop heat and vibration sources only; this spot has none, so they change nothing here."
     return f"Outages stop the heat and vibration sources ({', '.join(hit)}); the other sources run on."
@@ -262,7 +199,7 @@ def outage_note(a: Assessment) -> str:
 def risk_study(a: Assessment, record: dict[str, Any], session: str | None, years: int, seed: int,
                rate: float, mean_days: float) -> WeatherRisk:
     """Deficit days over resampled years for every case (memoised)."""
-    if not any(s.kind in OUTAGE_KINDS for s in a.spec.source):
+    if not any(stops_in_outage(s.kind) for s in a.spec.source):
         rate = 0.0  # outages act on nothing: share the entry
     key = _key("risk", content_key(record, session), years, seed, rate, mean_days)
     return RISK_STUDIES.get_or_make(key, lambda: weather_risk(a.prepared, years=years, seed=seed,
@@ -427,7 +364,7 @@ def download_portfolio_report(pdf_clicks: int | None, html_clicks: int | None, s
 def _triggered_id() -> Any:
     try:
         return dash.ctx.triggered_id
-    except Exception:  # called outside a Dash request
+    except MissingCallbackContextException:  # called outside a Dash request
         return None
 
 

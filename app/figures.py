@@ -16,7 +16,8 @@ import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
 from siteharvest.assess import Assessment, CaseResult
-from siteharvest.metrics import J_PER_WH, monthly_sum
+from siteharvest.findings import case_label
+from siteharvest.metrics import monthly_demand_wh
 from siteharvest.store import store_levels
 from siteharvest.timegrid import HOURS_PER_YEAR, REFERENCE_YEAR, SECONDS_PER_HOUR
 
@@ -34,7 +35,6 @@ OKABE_ITO = {
 }
 SERIES = ["#0072B2", "#E69F00", "#009E73", "#CC79A7", "#56B4E9", "#D55E00", "#000000"]
 DEMAND_COLOUR = "#000000"
-COMBINED_COLOUR = "#555555"
 DEFICIT_COLOUR = OKABE_ITO["vermillion"]
 FINE_COLOUR = "#BFE3D6"  # a light tint of the bluish green
 FONT = ('system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "Noto Sans", '
@@ -135,12 +135,12 @@ def monthly_figure(monthly_wh: dict[str, np.ndarray], demand_wh: np.ndarray, tit
 
 def sources_figure(a: Assessment) -> go.Figure:
     monthly = {_short_label(c): c.monthly_energy_wh for c in a.sources}
-    demand_wh = monthly_sum(a.prepared.demand_j) / J_PER_WH
+    demand_wh = monthly_demand_wh(a.prepared.demand_j)
     return monthly_figure(monthly, demand_wh)
 
 
 def _short_label(c: CaseResult) -> str:
-    return c.id if c.kind != "combined" else "all sources together"
+    return case_label(c.id)
 
 
 # --------------------------------------------------------------------------------------------------

@@ -8,6 +8,7 @@ from typing import Any
 import dash_ag_grid as dag
 from dash import dcc, html
 
+from siteharvest.findings import PICK_RULE
 from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 
 from . import ids
@@ -139,9 +140,9 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
             risk_tab(),
             dcc.Tab(label="Portfolio", value=ids.TAB_PORTFOLIO, className="sh-tab", selected_className="sh-tab-on",
                     children=[
-                html.P("Every loaded spot with its best source (fewest deficit days, then earliest first wake, "
-                       "then most energy). Click a column title to sort; click a spot, or press Space on it, "
-                       "to open it.",
+                html.P(f"Every loaded spot with its best source. {PICK_RULE} Weather year: FAR where the "
+                       "weather file's station does not stand for the spot. Click a column title to sort; click a "
+                       "spot, or press Space on it, to open it.",
                        className="sh-note"),
                 html.Ul([html.Li(e) for e in load_errors], id=ids.LOAD_ERRORS, className="sh-msg-list"),
                 portfolio_report_buttons(),

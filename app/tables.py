@@ -2,12 +2,12 @@
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 import numpy as np
 
 from siteharvest.assess import Assessment, CaseResult
+from siteharvest.findings import case_findings, case_label, headline, weather_warning
 from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 from siteharvest.store import backup_life_text
 
@@ -26,6 +26,7 @@ VERDICT_MEANING = {
 SUMMARY_COLUMNS = [
     ("source", "Source", ""),
     ("verdict", "Verdict", ""),
+    ("status", "Target", ""),
     ("annual_energy", "Into the store", "per year"),
     ("deficit_days", "Deficit days", "d/yr"),
     ("first_wake", "First wake", "h"),
@@ -52,7 +53,7 @@ def first_wake_text(hours: float) -> str:
 
 
 def case_name(c: CaseResult) -> str:
-    return "all together" if c.kind == "combined" else c.id
+    return case_label(c.id)
 
 
 def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
@@ -60,6 +61,7 @@ def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
     cases = a.cases
     shelf_life_years = a.backup.shelf_life_years
     factor, unit = si_scale(max((c.annual_energy_wh for c in cases), default=1.0), "Wh")
+    found = case_findings(a)
     rows = []
     for c in cases:
         rows.append({
@@ -76,17 +78,16 @@ def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
             "backup_life": backup_life_text(c.backup_life_years, shelf_life_years, short=True),
             "verdict": c.verdict,
             "verdict_class": VERDICT_CLASS.get(c.verdict, ""),
+            "status": found[c.id].status,
+            "finding": found[c.id].sentence,
         })
     return rows, f"{unit}/yr"
 
 
 def best_source(a: Assessment) -> CaseResult:
-    """The source with fewest deficit days, then earliest first wake, then most energy."""
-    def rank(c: CaseResult) -> tuple[float, float, float]:
-        fw = c.first_wake_hours if np.isfinite(c.first_wake_hours) else math.inf
-        return (float(c.deficit_days), fw, -c.annual_energy_wh)
-
-    return min(a.sources, key=rank) if a.sources else a.combined
+    """The headline pick's source (see :func:`siteharvest.findings.headline`)."""
+    pick = headline(a).source
+    return next((c for c in a.sources if pick is not None and c.id == pick.id), a.combined)
 
 
 NOT_ASSESSED = "could not assess"  # how a portfolio row whose spot cannot be simulated begins its verdict
@@ -103,11 +104,13 @@ PORTFOLIO_COLUMNS = [
     {"id": "spot", "name": "Spot and site file", "type": "text"},
     {"id": "best", "name": "Best source", "type": "text"},
     {"id": "verdict", "name": "Its verdict", "type": "text"},
+    {"id": "status", "name": "Target", "type": "text"},
     {"id": "deficit_days", "name": "Deficit days [d/yr]", "type": "numeric"},
     {"id": "first_wake_h", "name": "First wake [h]", "type": "numeric"},
     {"id": "energy_wh", "name": "Its energy [Wh/yr]", "type": "numeric"},
     {"id": "demand_uw", "name": "Node demand [µW]", "type": "numeric"},
     {"id": "together", "name": "All together", "type": "text"},
+    {"id": "weather", "name": "Weather year", "type": "text"},
 ]
 
 
@@ -116,9 +119,11 @@ def portfolio_row(key: str, file: str, a: Assessment | None, error: str = "", na
     if a is None:
         row = {"key": key, "spot": name or key, "best": "—", "verdict": f"{NOT_ASSESSED}: {error}",
                "deficit_days": None, "first_wake_h": None, "energy_wh": None, "demand_uw": None,
-               "together": "—", "sources": None, "file": file}
+               "together": "—", "status": "—", "weather": "—", "sources": None, "file": file}
         return row | {f"{c}_rank": verdict_rank(row[c]) for c in RANKED}
+    top = headline(a)
     best = best_source(a)
+    far = weather_warning(a)
     fw = best.first_wake_hours
     row = {
         "key": key,
@@ -130,6 +135,10 @@ def portfolio_row(key: str, file: str, a: Assessment | None, error: str = "", na
         "energy_wh": float(f"{best.annual_energy_wh:.4g}"),
         "demand_uw": float(f"{a.mean_power_uw:.4g}"),
         "together": a.combined.verdict,
+        "status": top.source.status if top.source is not None else top.case.status,
+        "weather": (f"FAR: {far.distance_km:,.0f} km away" if far is not None
+                    else "synthetic, for the spot" if a.spec.weather.source_kind == "synthetic" else "near the spot"),
+        "weather_warning": None if far is None else far.sentence,
         "sources": len(a.sources),
         "file": file,
     }

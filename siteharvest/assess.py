@@ -19,7 +19,7 @@ from .demand import demand_energy_j, mean_power_w
 from .errors import SiteInputError
 from .kernel import KernelResult, StoreArrays, simulate
 from .metrics import (
-    J_PER_WH,
+    annual_demand_wh,
     autonomy_days,
     dark_hours,
     deficit_day_mask,
@@ -32,7 +32,7 @@ from .metrics import (
 )
 from .schedule import parse_date
 from .site import SiteSpec
-from .sources import SourceOutput, source_output
+from .sources import SourceOutput, kind_of, source_output
 from .store import (
     BackupCellSpec,
     RechargeableCellSpec,
@@ -93,13 +93,11 @@ class CaseResult:
     longest_outage_hours: int
     lowest_soc_pct: float
     autonomy_days: float
-    backup_draw_wh_per_year: float
     backup_life_years: float
     verdict: str
     stored_energy_j: np.ndarray
     node_on: np.ndarray
     unmet_j: np.ndarray
-    totals_j: dict[str, float]
     terminal: SourceOutput | None = None
 
     def to_json(self) -> dict[str, Any]:
@@ -157,7 +155,7 @@ class Assessment:
         return {
             "spot": {"name": spot.name, "latitude": spot.latitude_deg, "longitude": spot.longitude_deg},
             "demand": {"mean_power_uw": round(self.mean_power_uw, 6),
-                       "annual_energy_wh": round(float(self.prepared.demand_j.sum() / J_PER_WH), 6)},
+                       "annual_energy_wh": round(annual_demand_wh(self.prepared.demand_j), 6)},
             "sources": [c.to_json() for c in self.sources],
             "combined": self.combined.to_json(),
             "store": {"usable_energy_j": round(self.usable_energy_j, 6)},
@@ -273,39 +271,49 @@ def assess_prepared(prep: Prepared) -> Assessment:
     store changes)."""
     spec = prep.spec
     harvests = [*prep.harvests, combine(prep.harvests)]
-    n = len(harvests)
     res, starts, levels = run_cases(prep, harvests)
-    year = slice(HOURS_PER_YEAR, 2 * HOURS_PER_YEAR)
-    demand = prep.demand_j
     backup = spec.store.backup or BackupCellSpec()
-    usable = spec.store.usable_energy_j
-    mean_w = mean_power_w(spec.node)
-    cases = []
-    for k, h in enumerate(harvests):
-        i_inst, i_back = n + k, 2 * n + k
-        lv = levels[k]
-        mid = 0.5 * (lv.max_j + lv.cutoff_j)
-        leak_w = (lv.leak_fraction_per_h * mid + lv.leak_sqrt_j_per_h * np.sqrt(mid)
-                  + lv.leak_const_j_per_h) / SECONDS_PER_HOUR
-        short = dark_hours(res.on[k, year], res.short[k, year])
-        draw_j = float(res.unmet_j[i_back, year].sum())
-        fw = float(first_wake_hours(res.on[i_inst])[()])
-        span = max(lv.max_j - lv.cutoff_j, 1e-30)
-        dmask = deficit_day_mask(short)
-        cases.append(CaseResult(
-            id=h.id, kind=h.kind, label=h.label, into_store_w=h.running_w,
-            annual_energy_wh=float(h.running_w.sum()), monthly_energy_wh=monthly_energy_wh(h.running_w),
-            monthly_margin=monthly_margin(h.running_w, demand), deficit_days=int(dmask.sum()),
-            deficit_days_mask=dmask, install_hour=starts[k], first_wake_hours=fw,
-            longest_outage_hours=int(longest_outage_hours(res.on[i_inst])[()]),
-            lowest_soc_pct=float(np.clip((res.min_energy_j[k] - lv.cutoff_j) / span, 0, 1) * 100),
-            autonomy_days=autonomy_days(usable, mean_w, leak_w),
-            backup_draw_wh_per_year=draw_j / J_PER_WH,
-            backup_life_years=float(backup_life_years(backup, draw_j)[()]),
-            verdict=verdict(int(dmask.sum()), fw),
-            stored_energy_j=res.energy_j[k, year], node_on=res.on[k, year], unmet_j=res.unmet_j[k, year],
-            totals_j={key: float(v[k]) for key, v in res.totals.items()}, terminal=h.terminal,
-        ))
+    cases = [_case_result(prep, res, k, h, starts[k], levels[k], backup) for k, h in enumerate(harvests)]
+    return Assessment(
+        prepared=prep, sources=cases[:-1], combined=cases[-1], usable_energy_j=spec.store.usable_energy_j,
+        backup=backup, backup_is_assumed=spec.store.backup is None,
+        backup_only_life_years=float(backup_life_years(backup, prep.demand_j.sum())[()]),
+        warnings=_warnings(prep), cautions=cautions_for(caution_keys(spec)),
+    )
+
+
+def _case_result(prep: Prepared, res: KernelResult, k: int, h: Harvest, start: int, lv: StoreLevels,
+                 backup: BackupCellSpec) -> CaseResult:
+    """Case ``k`` judged from its three runs in :func:`run_cases` (steady, installation, backup)."""
+    n = res.on.shape[0] // 3
+    i_inst, i_back = n + k, 2 * n + k
+    year = slice(HOURS_PER_YEAR, 2 * HOURS_PER_YEAR)
+    mid = 0.5 * (lv.max_j + lv.cutoff_j)
+    leak_w = (lv.leak_fraction_per_h * mid + lv.leak_sqrt_j_per_h * np.sqrt(mid)
+              + lv.leak_const_j_per_h) / SECONDS_PER_HOUR
+    dark = dark_hours(res.on[k, year], res.short[k, year])
+    draw_j = float(res.unmet_j[i_back, year].sum())
+    fw = float(first_wake_hours(res.on[i_inst])[()])
+    span = max(lv.max_j - lv.cutoff_j, 1e-30)
+    dmask = deficit_day_mask(dark)
+    return CaseResult(
+        id=h.id, kind=h.kind, label=h.label, into_store_w=h.running_w,
+        annual_energy_wh=float(h.running_w.sum()), monthly_energy_wh=monthly_energy_wh(h.running_w),
+        monthly_margin=monthly_margin(h.running_w, prep.demand_j), deficit_days=int(dmask.sum()),
+        deficit_days_mask=dmask, install_hour=start, first_wake_hours=fw,
+        longest_outage_hours=int(longest_outage_hours(res.on[i_inst])[()]),
+        lowest_soc_pct=float(np.clip((res.min_energy_j[k] - lv.cutoff_j) / span, 0, 1) * 100),
+        autonomy_days=autonomy_days(prep.spec.store.usable_energy_j, mean_power_w(prep.spec.node), leak_w),
+        backup_life_years=float(backup_life_years(backup, draw_j)[()]),
+        verdict=verdict(int(dmask.sum()), fw),
+        stored_energy_j=res.energy_j[k, year], node_on=res.on[k, year], unmet_j=res.unmet_j[k, year],
+        terminal=h.terminal,
+    )
+
+
+def _warnings(prep: Prepared) -> list[str]:
+    """The weather reader's notes, each source model's notes and the store's voltage-sag warning."""
+    spec = prep.spec
     warnings = list(prep.weather_meta.notes)
     for h in prep.harvests:
         if h.terminal is not None:
@@ -314,19 +322,14 @@ def assess_prepared(prep: Prepared) -> Assessment:
                           spec.node.regulator_efficiency, spec.node.regulator_min_input_v)
     if sag:
         warnings.append(sag)
-    return Assessment(
-        prepared=prep, sources=cases[:-1], combined=cases[-1], usable_energy_j=usable, backup=backup,
-        backup_is_assumed=spec.store.backup is None,
-        backup_only_life_years=float(backup_life_years(backup, demand.sum())[()]),
-        warnings=warnings, cautions=cautions_for(caution_keys(spec)),
-    )
+    return warnings
 
 
 def caution_keys(spec: SiteSpec) -> set[str]:
     """Which cautions apply: from the fitted sources, the store, the spot's height and zone."""
     keys: set[str] = set()
     for src in spec.source:
-        keys.update(type(src).cautions)
+        keys.update(kind_of(src).cautions)
     # Height decides work at height (common practice: fall protection from about 2 m).
     keys.discard("work_at_height")
     if spec.spot.mounting_height_m >= 2.0:

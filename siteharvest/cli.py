@@ -12,8 +12,6 @@ import sys
 from collections.abc import Sequence
 from pathlib import Path
 
-import numpy as np
-
 from .errors import SiteInputError
 from .store import backup_life_text
 
@@ -30,23 +28,33 @@ def _fmt(x: float | None, digits: int = 1) -> str:
 
 def format_table(assessment) -> str:
     """A readable comparison table of every source and all sources together."""
+    from .findings import case_findings, demand_summary, headline, source_inputs, weather_warning
+
     a = assessment
     spot = a.spec.spot
+    found = case_findings(a)
+    top = headline(a, found)
+    far = weather_warning(a)
     lines = [
         f"Spot: {spot.name}  ({spot.latitude_deg:.3f}, {spot.longitude_deg:.3f})",
+        *([f"WARNING: {far.sentence}"] if far is not None else []),
         f"Node: mean demand {a.mean_power_uw:,.1f} uW  "
-        f"({a.prepared.demand_j.sum() / 3600:,.2f} Wh/yr);  store usable {a.usable_energy_j:,.1f} J",
+        f"({demand_summary(a).annual_energy_wh:,.2f} Wh/yr);  store usable {a.usable_energy_j:,.1f} J",
         f"Backup cell alone ({a.backup.cell}{', assumed' if a.backup_is_assumed else ''}): "
         f"{backup_life_text(a.backup_only_life_years, a.backup.shelf_life_years)} years",
         "",
+        f"Answer: {top.answer} {top.sentence}",
+        f"Why: {top.reason}",
+        "",
     ]
     head = ["source", "kind", "into store Wh/yr", "deficit days", "first wake h", "longest outage h",
-            "lowest store %", "backup life yr", "verdict"]
+            "lowest store %", "backup life yr", "verdict", "target"]
     rows = []
     for c in a.cases:
         rows.append([c.id, c.kind, _fmt(c.annual_energy_wh, 2), str(c.deficit_days),
                      _fmt(c.first_wake_hours, 0), str(c.longest_outage_hours), _fmt(c.lowest_soc_pct, 0),
-                     backup_life_text(c.backup_life_years, a.backup.shelf_life_years), c.verdict])
+                     backup_life_text(c.backup_life_years, a.backup.shelf_life_years), c.verdict,
+                     found[c.id].status])
     widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
     right = {2, 3, 4, 5, 6, 7}
 
@@ -57,6 +65,9 @@ def format_table(assessment) -> str:
     lines.append(line(head))
     lines.append("  ".join("-" * w for w in widths))
     lines.extend(line(r) for r in rows)
+    surveys = [si.sentence for si in map(source_inputs, a.spec.source) if si.needs_survey]
+    if surveys:
+        lines += ["", "Needs a survey:"] + [f"  - {t}" for t in surveys]
     if a.warnings:
         lines += ["", "Notes:"] + [f"  - {w}" for w in a.warnings]
     if a.cautions:
@@ -73,56 +84,33 @@ def cmd_assess(args: argparse.Namespace) -> int:
     if args.hourly:
         assessment.hourly_frame().to_csv(args.hourly, float_format="%.6g")
     if args.json:
-        print(json.dumps(assessment.to_json(), indent=2))
+        from .findings import assessment_json
+
+        print(json.dumps(assessment_json(assessment), indent=2))
     else:
         print(format_table(assessment))
     return 0
 
 
 def format_sizing(maps, interval, risk) -> str:
-    """Plain-text summary of the sizing study."""
+    """Plain-text summary of the sizing study: the findings' sentences, one per line."""
+    from .assess import COMBINED_ID
+    from .findings import interval_finding, risk_findings, sizing_finding, study_limits
+
     lines = []
-
-    def q(value: float, unit: str) -> str:
-        return f"{value:.3g}" if unit in ("-", "") else f"{value:.3g} {unit}"
-
+    risks = risk_findings(risk) if risk is not None else {}
     for m in maps:
-        i0 = int(np.argmin(np.abs(m.harvester_sizes - m.harvester_drawn)))
-        j0 = int(np.argmin(np.abs(m.store_sizes - m.store_drawn)))
-        lines.append(f"{m.source_id} ({m.kind}): as drawn {m.harvester_field} "
-                     f"{q(m.harvester_drawn, m.harvester_unit)}, "
-                     f"{m.store_field} {q(m.store_drawn, m.store_unit)}: {int(m.deficit_days[i0, j0])} deficit days")
-        if m.pick is None:
-            lines.append(f"  no size in the map meets <= {m.target_deficit_days} deficit days "
-                         f"({m.harvester_field} up to {m.harvester_sizes.max():g} {m.harvester_unit}, "
-                         f"{m.store_field} up to {m.store_sizes.max():g} {m.store_unit})")
-        else:
-            i, j = m.pick
-            edge = " (the smallest tried: smaller may pass too)" if m.pick_at_edge else ""
-            lines.append(f"  smallest that meets <= {m.target_deficit_days} deficit days: {m.harvester_field} "
-                         f"{q(m.harvester_sizes[i], m.harvester_unit)} with {m.store_field} "
-                         f"{q(m.store_sizes[j], m.store_unit)}{edge}, first wake "
-                         + (f"{m.first_wake_hours[i, j]:,.0f} h" if np.isfinite(m.first_wake_hours[i, j])
-                            else "later than 90 days"))
-            front = "; ".join(f"{q(m.harvester_sizes[a], m.harvester_unit)} + {q(m.store_sizes[b], m.store_unit)}"
-                              for a, b in m.frontier[:8])
-            lines.append(f"  smallest combinations: {front}{' ...' if len(m.frontier) > 8 else ''}")
-        if risk is not None and m.source_id in risk.deficit_days:
-            r = risk.summary(m.source_id)
-            lines.append(f"  weather risk over {risk.years} years: deficit days P50 {r['p50']:.0f}, "
-                         f"P90 {r['p90']:.0f}, "
-                         f"P99 {r['p99']:.0f}; years with any deficit day {r['chance_any']:.0%}")
+        found = sizing_finding(m)
+        lines.append(f"{m.source_id} ({m.kind}):")
+        lines.extend(f"  {t}" for t in found.sentences)
+        if m.source_id in risks:
+            lines.append(f"  {risks[m.source_id].sentence}")
         lines.append("")
-    if risk is not None and "all-sources" in risk.deficit_days and len(maps) != 1:
-        r = risk.summary("all-sources")
-        lines.append(f"all sources together, weather risk: P50 {r['p50']:.0f}, P90 {r['p90']:.0f}, P99 {r['p99']:.0f}; "
-                     f"years with any deficit day {r['chance_any']:.0%}")
+    if COMBINED_ID in risks and len(maps) != 1:
+        lines.append(risks[COMBINED_ID].sentence)
     if interval is not None:
-        fastest = ("no interval up to a week meets the target" if interval.shortest_every_s is None
-                   else f"every {interval.shortest_every_s:,.1f} s at the most")
-        lines.append(f"reporting with {interval.source_id}: '{interval.task}' "
-                     f"(drawn every {interval.drawn_every_s:g} s): "
-                     f"{fastest}")
+        lines.append(interval_finding(interval).sentence)
+    lines.extend(["", *study_limits().sentences])
     return "\n".join(lines).rstrip()
 
 
@@ -140,6 +128,20 @@ def _size_option(text: object, flag: str, bounds: tuple[float, float], *, intege
             raise SiteInputError(f"{kind} from {span}", field=flag,
                                  got=text if len(text) <= 40 else f"{len(text)} characters") from None
     return check_option(value, flag, bounds, integer=integer)
+
+
+def _knobs_for(spec, chosen: list[str], knob: str | None, site: str) -> dict[str, str | None]:
+    """The size knob of each chosen source: ``knob`` where its kind declares it, else the kind's default."""
+    from .sources import kind_of
+
+    kinds = {s.id: kind_of(s) for s in spec.source if s.id in chosen}
+    if knob is None:
+        return dict.fromkeys(chosen)
+    declared = {k.field for kind in kinds.values() for k in kind.size_knobs}
+    if knob not in declared:
+        raise SiteInputError("a size the chosen sources declare: " + ", ".join(sorted(declared)), file=site,
+                             field="--knob", got=knob)
+    return {sid: knob if knob in {k.field for k in kinds[sid].size_knobs} else None for sid in chosen}
 
 
 def cmd_size(args: argparse.Namespace) -> int:
@@ -172,11 +174,17 @@ def cmd_size(args: argparse.Namespace) -> int:
     if args.source and args.source not in ids:
         raise SiteInputError("one of the site's source ids: " + ", ".join(ids), file=args.site, field="--source",
                              got=args.source)
-    prep = prepare(spec)
+    tasks = [t.name for t in spec.node.task]
+    if args.task is not None and args.task not in tasks:
+        raise SiteInputError("one of the node's task names: " + "; ".join(tasks), file=args.site, field="--task",
+                             got=args.task)
     chosen = [args.source] if args.source else ids
-    maps = [sizing_map(prep, sid, n_harvester=args.steps, n_store=args.steps, max_deficit_days=args.max_deficit_days)
-            for sid in chosen]
-    interval = report_interval(prep, args.source or COMBINED_ID, max_deficit_days=args.max_deficit_days)
+    knobs = _knobs_for(spec, chosen, args.knob, args.site)
+    prep = prepare(spec)
+    maps = [sizing_map(prep, sid, n_harvester=args.steps, n_store=args.steps, max_deficit_days=args.max_deficit_days,
+                       knob=knobs[sid]) for sid in chosen]
+    interval = report_interval(prep, args.source or COMBINED_ID, max_deficit_days=args.max_deficit_days,
+                               task=args.task)
     risk = None if args.years == 0 else weather_risk(prep, years=args.years, seed=args.seed,
                                                      outage_rate_per_year=args.outages_per_year,
                                                      outage_mean_days=args.outage_days)
@@ -255,6 +263,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--max-deficit-days", default=None, metavar="N",
                    help="target: at most N deficit days a year, 0..365 (default: the site's run.target_deficit_days)")
     p.add_argument("--steps", default=40, metavar="N", help="sizes tried along each axis, 2..200 (default 40)")
+    p.add_argument("--knob", default=None, metavar="FIELD",
+                   help="the harvester size to vary where a source's kind declares it, e.g. heat_sink.area_cm2 "
+                   "for thermoelectric sources (default: each kind's first size)")
+    p.add_argument("--task", default=None, metavar="NAME",
+                   help="the node task whose interval the reporting search varies (default: the task named as "
+                   "the report, e.g. 'send ...', else the one that costs the most energy)")
     p.add_argument("--years", default=500, metavar="N",
                    help="resampled weather years, 0..5000 (0 to skip; default 500)")
     p.add_argument("--seed", default=1, metavar="N", help="seed of the resampling, 0..4294967295 (default 1)")

@@ -1,13 +1,15 @@
 """What does it take, and how sure are we: sizing maps, the fastest sustainable reporting, and
 weather risk. Everything runs through the one kernel, each study as one array of configurations.
 
-- Sizing map: harvester size (each kind's natural knob) against store size, deficit days of a
+- Sizing map: harvester size (a size knob the kind declares) against store size, deficit days of a
   steady-state year in every cell, first wake reported separately; the frontier is the set of
   passing cells with no passing cell both smaller in harvester and smaller in store (no
   monotonicity assumed: with turn-on hysteresis a bigger store can add deficit days); the pick is
-  the smallest harvester, then the smallest store, that passes.
-- Report interval: the node's most frequent task made rarer (or more frequent) until the target is
-  just met, by bisection on the interval with one kernel run per step.
+  the smallest harvester, then the smallest store, that passes. A map whose frontier touches its
+  small edge, or that has no passing cell, is widened (down to the knob's bounds) and run again.
+- Report interval: one task (the one named as the report, else the costliest, or the one chosen)
+  made rarer (or more frequent) until the target is just met, by bisection on the interval with one
+  kernel run per step.
 - Weather risk: many years made by resampling whole weeks of the spot's own year within the same
   calendar month, keeping to weeks whose schedule pattern (lamps, process, machine, transmitter hours
   and dates off) is the same, so that weather moves and schedules do not. Optional process/machine
@@ -32,7 +34,7 @@ from typing import Any
 import numpy as np
 from pydantic import BaseModel
 
-from .assess import COMBINED_ID, Harvest, Prepared, combine
+from .assess import COMBINED_ID, Harvest, Prepared, combine, install_hour
 from .conditioning import condition
 from .demand import demand_energy_j
 from .errors import SiteInputError
@@ -40,17 +42,20 @@ from .fields import bounds_of
 from .kernel import StoreArrays, simulate
 from .metrics import first_wake_hours
 from .schedule import WeeklySchedule
-from .sources import source_output
+from .sources import SOURCE_KINDS, SizeKnob, field_model, kind_of, source_output
 from .store import SupercapacitorSpec, store_levels
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, month_of_hour
 
-# How each kind's size knob acts on the transducer's output: "area" and "count" scale power in
-# proportion (each module has its own contacts and sink); other knobs re-run the yield model.
-LINEAR_KNOBS = {("solar", "area_cm2"), ("indoor_light", "area_cm2"), ("thermoelectric", "modules")}
-# Knobs where a smaller value means more harvester (a transmitter moved closer).
-SMALLER_IS_MORE = {("rf", "distance_m")}
 # In a sizing map a first wake later than this counts as none (NaN / null): 90 days.
 FIRST_WAKE_HORIZON_H = 90 * 24
+# A sizing map spans the drawn harvester from 1/8 to 8 times as much (a distance: 4 times farther to 1/8 as
+# far) and the drawn store from 1/8 to 16 times; a map whose frontier touches its small edge, or with no
+# passing cell, is widened by this factor on that side, at most WIDEN_ROUNDS times.
+HARVESTER_SPAN = (8.0, 8.0)            # (toward less harvester, toward more), as factors on the drawn size
+DISTANCE_SPAN = (4.0, 8.0)             # the same for a knob where smaller is more (a distance)
+STORE_SPAN = (8.0, 16.0)               # (toward a smaller store, toward a larger one)
+WIDEN_FACTOR = 8.0
+WIDEN_ROUNDS = 3
 # Years per kernel call in weather_risk: bounds memory to the hourly arrays of this many years.
 RISK_CHUNK_YEARS = 100
 
@@ -131,6 +136,8 @@ class SizingMap:
     frontier: list[tuple[int, int]] = field(default_factory=list)
     pick: tuple[int, int] | None = None
     least_harvester_is_limit: bool = False
+    harvester_label: str = ""
+    smaller_is_more: bool = False
 
     @property
     def pick_at_edge(self) -> bool:
@@ -192,6 +199,7 @@ def frontier_and_pick(meets: np.ndarray) -> tuple[list[tuple[int, int]], tuple[i
 
 def _grid(drawn: float, low: float | None, high: float | None, n: int, integer: bool,
           down: float, up: float) -> np.ndarray:
+    """``n`` log-spaced sizes from ``drawn * down`` to ``drawn * up`` within the bounds, the drawn one included."""
     lo = drawn * down if low is None else max(drawn * down, low)
     hi = drawn * up if high is None else min(drawn * up, high)
     if integer:
@@ -201,26 +209,47 @@ def _grid(drawn: float, low: float | None, high: float | None, n: int, integer: 
     return np.unique(np.append(values, drawn))
 
 
-def harvester_sizes(spec: BaseModel, n: int) -> tuple[np.ndarray, str, str, float]:
-    """Sizes to try for a source's knob, least harvester first; (sizes, field, unit, drawn)."""
-    name = type(spec).size_field
-    b = bounds_of(type(spec), name)
-    drawn = float(getattr(spec, name))
-    integer = isinstance(getattr(spec, name), int)
+def knob_value(spec: BaseModel, path: str) -> Any:
+    """The value of a dotted field path (``heat_sink.area_cm2``) in a source."""
+    value: Any = spec
+    for name in path.split("."):
+        value = getattr(value, name)
+    return value
+
+
+def with_knob(spec: BaseModel, path: str, value: Any) -> Any:
+    """A copy of ``spec`` with the dotted field ``path`` set to ``value`` (as the field's own type)."""
+    name, _, rest = path.partition(".")
+    current = getattr(spec, name)
+    new = with_knob(current, rest, value) if rest else type(current)(value)
+    return spec.model_copy(update={name: new})
+
+
+def harvester_sizes(spec: BaseModel, n: int, knob: SizeKnob | None = None,
+                    span: tuple[float, float] | None = None) -> tuple[np.ndarray, str, str, float]:
+    """Sizes to try for a source's knob (its kind's default knob for ``None``), least harvester first;
+    (sizes, field, unit, drawn). ``span``: (toward less, toward more) as factors on the drawn size."""
+    knob = knob or kind_of(spec).knob()  # type: ignore[arg-type]
+    owner, last = field_model(type(spec), knob.field)
+    b = bounds_of(owner, last)
+    value = knob_value(spec, knob.field)
+    drawn, integer = float(value), isinstance(value, int)
     low = b.low if b.low_inclusive or b.low is None else b.low * 1.000001
-    if (spec.kind, name) in SMALLER_IS_MORE:
-        sizes = _grid(drawn, low, b.high, n, integer, 0.125, 4.0)[::-1]
+    less, more = span or (DISTANCE_SPAN if knob.smaller_is_more else HARVESTER_SPAN)
+    if knob.smaller_is_more:
+        sizes = _grid(drawn, low, b.high, n, integer, 1.0 / more, less)[::-1]
     else:
-        sizes = _grid(drawn, low, b.high, n, integer, 0.125, 8.0)
-    return sizes, name, b.unit, drawn
+        sizes = _grid(drawn, low, b.high, n, integer, 1.0 / less, more)
+    return sizes, knob.field, b.unit, drawn
 
 
-def store_sizes(store: BaseModel, n: int) -> tuple[np.ndarray, str, str, float]:
-    """Store sizes to try, smallest first; (sizes, field, unit, drawn)."""
+def store_sizes(store: BaseModel, n: int, span: tuple[float, float] = STORE_SPAN) -> tuple[np.ndarray, str, str, float]:
+    """Store sizes to try, smallest first; (sizes, field, unit, drawn). ``span``: (toward smaller, toward
+    larger) as factors on the drawn size."""
     name = "capacitance_f" if isinstance(store, SupercapacitorSpec) else "capacity_mah"
     b = bounds_of(type(store), name)
     drawn = float(getattr(store, name))
-    return _grid(drawn, None, b.high, n, False, 0.125, 16.0), name, b.unit, drawn
+    return _grid(drawn, None, b.high, n, False, 1.0 / span[0], span[1]), name, b.unit, drawn
 
 
 def resized_store(store: BaseModel, name: str, value: float) -> BaseModel:
@@ -231,22 +260,21 @@ def resized_store(store: BaseModel, name: str, value: float) -> BaseModel:
     return store.model_copy(update=update)
 
 
-def _harvest_at_sizes(prep: Prepared, index: int, sizes: np.ndarray, name: str) -> Harvest:
+def _harvest_at_sizes(prep: Prepared, index: int, sizes: np.ndarray, knob: SizeKnob) -> Harvest:
     """Conditioned harvest of source ``index`` at each size: arrays shaped (sizes, 8760)."""
     spec = prep.spec.source[index]
     base = prep.harvests[index]
-    drawn = float(getattr(spec, name))
-    if (spec.kind, name) in LINEAR_KNOBS:
+    drawn = float(knob_value(spec, knob.field))
+    if knob.proportional:
         out = base.terminal if base.terminal is not None else source_output(spec, prep.context)
         scale = sizes[:, None] / drawn
         power = out.power_w[None, :] * scale
         volts = None
         if out.voltage_v is not None:
-            series = spec.kind == "thermoelectric" and getattr(spec, "wiring", "") == "series"
-            volts = out.voltage_v[None, :] * (scale if series else 1.0)
+            scales = knob.voltage_scales is not None and knob.voltage_scales(spec)
+            volts = out.voltage_v[None, :] * (scale if scales else 1.0)
     else:
-        outs = [source_output(spec.model_copy(update={name: type(getattr(spec, name))(v)}), prep.context)
-                for v in sizes]
+        outs = [source_output(with_knob(spec, knob.field, v), prep.context) for v in sizes]
         power = np.array([o.power_w for o in outs])
         volts = None if outs[0].voltage_v is None else np.array([o.voltage_v for o in outs])
         if volts is None or any(o.voltage_v is None for o in outs):
@@ -257,8 +285,14 @@ def _harvest_at_sizes(prep: Prepared, index: int, sizes: np.ndarray, name: str) 
 
 
 def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store: int = 40,
-               max_deficit_days: int | None = None) -> SizingMap:
-    """Deficit days over a grid of harvester and store sizes for one source, in one kernel call."""
+               max_deficit_days: int | None = None, knob: str | None = None) -> SizingMap:
+    """Deficit days over a grid of harvester and store sizes for one source, one kernel call per round.
+
+    ``knob`` picks one of the sizes the source's kind declares (its dotted field path, e.g.
+    ``heat_sink.area_cm2``); the kind's default knob for ``None``. The map starts from the spans of
+    :data:`HARVESTER_SPAN` and :data:`STORE_SPAN` around the drawn sizes and is widened while its
+    frontier touches the small edge (or nothing passes) and the bounds allow (see :func:`_widened`).
+    """
     ids = [s.id for s in prep.spec.source]
     if source_id not in ids:
         raise KeyError(source_id)
@@ -268,11 +302,72 @@ def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store
         max_deficit_days = int(check_option(max_deficit_days, "max_deficit_days", DEFICIT_DAYS_RANGE, integer=True))
     _within_budget(sizing_memory_bytes(n_harvester, n_store), "sizing map", "n_harvester, n_store")
     index = ids.index(source_id)
-    spec = prep.spec.source[index]
+    kind = kind_of(prep.spec.source[index])
+    try:
+        chosen = kind.knob(knob)
+    except KeyError:
+        raise SiteInputError("one of " + ", ".join(k.field for k in kind.size_knobs), field="knob",
+                             got=knob) from None
     target = prep.spec.run.target_deficit_days if max_deficit_days is None else max_deficit_days
-    h_sizes, h_name, h_unit, h_drawn = harvester_sizes(spec, n_harvester)
-    s_sizes, s_name, s_unit, s_drawn = store_sizes(prep.spec.store, n_store)
-    harvest = _harvest_at_sizes(prep, index, h_sizes, h_name)
+    h_span = DISTANCE_SPAN if chosen.smaller_is_more else HARVESTER_SPAN
+    s_span = STORE_SPAN
+    m = _map_once(prep, index, chosen, n_harvester, n_store, target, h_span, s_span)
+    for _ in range(WIDEN_ROUNDS):
+        wider = _widened(m, prep, index, chosen, h_span, s_span)
+        if wider is None:
+            break
+        h_span, s_span = wider
+        m = _map_once(prep, index, chosen, n_harvester, n_store, target, h_span, s_span)
+    return m
+
+
+def _widened(m: SizingMap, prep: Prepared, index: int, knob: SizeKnob, h_span: tuple[float, float],
+             s_span: tuple[float, float]) -> tuple[tuple[float, float], tuple[float, float]] | None:
+    """Wider spans when the map's frontier is not inside it, or None when it is (or the bounds stop it).
+
+    The least harvester passes (and is not the knob's limit): reach for less. The pick needs no more than
+    the smallest store (and that is not the store's limit): reach for smaller stores. Nothing passes: reach
+    for more of both.
+    """
+    less, more = h_span
+    small, large = s_span
+    spec, store = prep.spec.source[index], prep.spec.store
+    h_room_more = _room(spec, knob, float(m.harvester_sizes[-1]), toward_more=True)
+    s_b = bounds_of(type(store), m.store_field)
+    if m.pick is None:
+        grow_h = h_room_more
+        grow_s = s_b.high is None or float(m.store_sizes[-1]) < s_b.high * (1 - 1e-9)
+        if not (grow_h or grow_s):
+            return None
+        return ((less, more * WIDEN_FACTOR if grow_h else more), (small, large * WIDEN_FACTOR if grow_s else large))
+    i, j = m.pick
+    reach_less = i == 0 and _room(spec, knob, float(m.harvester_sizes[0]), toward_more=False)
+    reach_small = j == 0 and float(m.store_sizes[0]) > max(s_b.low or 0.0, 1e-9) * (1 + 1e-6)
+    if not (reach_less or reach_small):
+        return None
+    return ((less * WIDEN_FACTOR if reach_less else less, more),
+            (small * WIDEN_FACTOR if reach_small else small, large))
+
+
+def _room(spec: BaseModel, knob: SizeKnob, size: float, *, toward_more: bool) -> bool:
+    """Whether the knob's bounds leave room beyond ``size`` toward more (or less) harvester."""
+    owner, last = field_model(type(spec), knob.field)
+    b = bounds_of(owner, last)
+    integer = isinstance(knob_value(spec, knob.field), int)
+    upward = toward_more != knob.smaller_is_more        # the direction along the field's own values
+    if upward:
+        return b.high is None or size < b.high * (1 - 1e-9)
+    floor = 1.0 if integer else max(b.low or 0.0, 1e-9)
+    return size > floor * (1 + 1e-6)
+
+
+def _map_once(prep: Prepared, index: int, knob: SizeKnob, n_harvester: int, n_store: int, target: int,
+              h_span: tuple[float, float], s_span: tuple[float, float]) -> SizingMap:
+    """One sizing map over the given spans: a steady-year kernel call and a first-wake call."""
+    spec = prep.spec.source[index]
+    h_sizes, h_name, h_unit, h_drawn = harvester_sizes(spec, n_harvester, knob, h_span)
+    s_sizes, s_name, s_unit, s_drawn = store_sizes(prep.spec.store, n_store, s_span)
+    harvest = _harvest_at_sizes(prep, index, h_sizes, knob)
     n_h, n_s = len(h_sizes), len(s_sizes)
     stores = [resized_store(prep.spec.store, s_name, v) for v in s_sizes]
     levels = [store_levels(st, cold_start_until_v=harvest.cold_start_until_v, quiescent_w=harvest.quiescent_w)
@@ -284,37 +379,77 @@ def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store
                       harvest_rows=rows, steady_year=True)
     dd = steady.dark_days.sum(axis=1).reshape(n_h, n_s)
     # first wake: empty store at the installation hour, one year on
-    from .assess import install_hour
-
     start = install_hour(prep.spec, prep.harvests[index], prep.demand_j)
     order = np.r_[start:HOURS_PER_YEAR, 0:start][:FIRST_WAKE_HORIZON_H]
     wake = simulate(harvest.running_w[:, order] * SECONDS_PER_HOUR, prep.demand_j[order], store_arr,
                     cold_harvest_j=harvest.cold_w[:, order] * SECONDS_PER_HOUR,
                     charge_allowed=prep.charge_allowed[order], harvest_rows=rows, stop_when_on=True)
     fw = first_wake_hours(wake.on).reshape(n_h, n_s)
-    meets = dd <= target
-    front, pick = frontier_and_pick(meets)
-    b = bounds_of(type(spec), h_name)
-    floor = 1.0 if isinstance(getattr(spec, h_name), int) else b.low
-    at_limit = (spec.kind, h_name) not in SMALLER_IS_MORE and floor is not None and h_sizes[0] <= floor * (1 + 1e-6)
+    front, pick = frontier_and_pick(dd <= target)
+    at_limit = not _room(spec, knob, float(h_sizes[0]), toward_more=False)
     return SizingMap(spec.id, spec.kind, h_name, h_unit, h_sizes, h_drawn, s_name, s_unit, s_sizes, s_drawn,
-                     dd, fw, target, front, pick, bool(at_limit))
+                     dd, fw, target, front, pick, bool(at_limit), knob.label, knob.smaller_is_more)
+
+
+# The reporting-interval search varies at most up to once a week by default.
+LONGEST_REPORT_INTERVAL_S = 7 * 86400.0
+# Words in a task's name that say it is the node's report (the default task of the interval search).
+REPORT_WORDS = ("report", "send", "transmit", "uplink", "publish", "upload")
+TASK_NAMED = "named as the report"
+TASK_COSTLIEST = "costs the most energy"
+TASK_GIVEN = "chosen"
 
 
 @dataclass
 class ReportInterval:
-    """The most frequent task's interval at which the drawn hardware just meets the target."""
+    """The interval of one task at which the drawn hardware just meets the target.
+
+    ``task_reason`` says why this task was varied (:data:`TASK_NAMED`, :data:`TASK_COSTLIEST` or
+    :data:`TASK_GIVEN`); ``floor_s`` and ``longest_s`` are the bounds of the search [s].
+    """
 
     source_id: str
     task: str
     drawn_every_s: float
     shortest_every_s: float | None
     deficit_days_at_drawn: int
+    task_reason: str = TASK_GIVEN
+    floor_s: float = 1.0
+    longest_s: float = LONGEST_REPORT_INTERVAL_S
+
+    @property
+    def at_floor(self) -> bool:
+        """The search's fastest interval already meets the target: faster may pass too."""
+        return self.shortest_every_s is not None and self.shortest_every_s <= self.floor_s * (1 + 1e-9)
 
     def to_json(self) -> dict[str, Any]:
         return {"id": self.source_id, "task": self.task, "drawn_every_s": self.drawn_every_s,
                 "shortest_every_s": None if self.shortest_every_s is None else round(self.shortest_every_s, 1),
-                "deficit_days_at_drawn": self.deficit_days_at_drawn}
+                "deficit_days_at_drawn": self.deficit_days_at_drawn, "task_reason": self.task_reason,
+                "floor_s": round(self.floor_s, 3), "longest_s": self.longest_s}
+
+
+def task_energy_j_per_year(node: Any, task: Any) -> float:
+    """Energy one task draws at the rail over the year [J]."""
+    runs = float(node.task_mask(task).sum()) * SECONDS_PER_HOUR / task.every_s
+    return runs * task.energy_per_run_j * node.supply_v
+
+
+def report_task(node: Any, name: str | None = None) -> tuple[int, str]:
+    """Which task the interval search varies, and why: the one named ``name``; else the task whose
+    name says it reports (:data:`REPORT_WORDS`; the costliest of several); else the costliest task.
+    Returns (index in ``node.task``, reason). Raises :class:`SiteInputError` for an unknown name."""
+    tasks = list(node.task)
+    if name is not None:
+        names = [t.name for t in tasks]
+        if name not in names:
+            raise SiteInputError("one of the node's task names: " + "; ".join(names), field="task", got=name)
+        return names.index(name), TASK_GIVEN
+    energy = [task_energy_j_per_year(node, t) for t in tasks]
+    named = [k for k, t in enumerate(tasks) if any(w in t.name.lower() for w in REPORT_WORDS)]
+    if named:
+        return max(named, key=lambda k: energy[k]), TASK_NAMED
+    return int(np.argmax(energy)), TASK_COSTLIEST
 
 
 def _steady_deficit(prep: Prepared, harvest: Harvest, demand_j: np.ndarray) -> int:
@@ -327,9 +462,11 @@ def _steady_deficit(prep: Prepared, harvest: Harvest, demand_j: np.ndarray) -> i
 
 
 def report_interval(prep: Prepared, source_id: str | None = None, *, max_deficit_days: int | None = None,
-                    longest_s: float = 7 * 86400.0, tolerance: float = 0.01) -> ReportInterval | None:
-    """Bisection on the most frequent task's period (log scale) for the shortest that meets the
-    target with the drawn harvester and store. ``None`` when the node has no task."""
+                    longest_s: float = LONGEST_REPORT_INTERVAL_S, tolerance: float = 0.01,
+                    task: str | None = None) -> ReportInterval | None:
+    """Bisection on one task's period (log scale) for the shortest that meets the target with the
+    drawn harvester and store. The task is ``task`` (by name), by default as :func:`report_task`
+    chooses. ``None`` when the node has no task."""
     node = prep.spec.node
     if max_deficit_days is not None:
         max_deficit_days = int(check_option(max_deficit_days, "max_deficit_days", DEFICIT_DAYS_RANGE, integer=True))
@@ -340,35 +477,33 @@ def report_interval(prep: Prepared, source_id: str | None = None, *, max_deficit
     target = prep.spec.run.target_deficit_days if max_deficit_days is None else max_deficit_days
     harvests = {h.id: h for h in prep.harvests}
     harvest = combine(prep.harvests) if source_id in (None, COMBINED_ID) else harvests[source_id]
-    k = int(np.argmin([t.every_s for t in node.task]))
-    task = node.task[k]
+    k, reason = report_task(node, task)
+    varied = node.task[k]
 
     def deficit(every_s: float) -> int:
         tasks = list(node.task)
-        tasks[k] = task.model_copy(update={"every_s": float(every_s)})
+        tasks[k] = varied.model_copy(update={"every_s": float(every_s)})
         return _steady_deficit(prep, harvest, demand_energy_j(node.model_copy(update={"task": tasks})))
 
-    drawn_dd = deficit(task.every_s)
-    lo = max(task.duration_ms / 1000.0 * 1.001, 1.0)
-    hi = max(longest_s, task.every_s)
+    drawn_dd = deficit(varied.every_s)
+    lo = max(varied.duration_ms / 1000.0 * 1.001, 1.0)
+    hi = max(longest_s, varied.every_s)
+    floor_s, longest = lo, hi
+
+    def found(shortest: float | None) -> ReportInterval:
+        return ReportInterval(harvest.id, varied.name, varied.every_s, shortest, drawn_dd, reason, floor_s, longest)
+
     if deficit(hi) > target:
-        return ReportInterval(harvest.id, task.name, task.every_s, None, drawn_dd)
+        return found(None)
     if deficit(lo) <= target:
-        return ReportInterval(harvest.id, task.name, task.every_s, lo, drawn_dd)
+        return found(lo)
     while hi / lo > 1.0 + tolerance:       # invariant: lo fails, hi passes
         mid = float(np.sqrt(lo * hi))
         if deficit(mid) <= target:
             hi = mid
         else:
             lo = mid
-    return ReportInterval(harvest.id, task.name, task.every_s, hi, drawn_dd)
-
-
-def store_for_autonomy_j(daily_demand_j: float, autonomy_days: float, max_depth_of_discharge: float = 1.0,
-                         derating: float = 1.0) -> float:
-    """Store capacity [J] that carries ``autonomy_days`` of demand with no harvest (IEEE 1562 rule):
-    daily demand x days of autonomy / (allowed depth of discharge x temperature/rate derating)."""
-    return daily_demand_j * autonomy_days / (max_depth_of_discharge * derating)
+    return found(hi)
 
 
 # ----------------------------------------------------------------------------------------------
@@ -461,7 +596,9 @@ class WeatherRisk:
                 "cases": {k: {key: round(v, 4) for key, v in self.summary(k).items()} for k in self.deficit_days}}
 
 
-OUTAGE_KINDS = ("thermoelectric", "vibration")
+def stops_in_outage(kind: str) -> bool:
+    """Whether an unplanned outage of the process or machine stops a source of this kind."""
+    return kind in SOURCE_KINDS and SOURCE_KINDS[kind].outage_stops
 
 
 def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate_per_year: float = 0.0,
@@ -495,7 +632,7 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
         per_source_run, per_source_cold = [], []
         for h in prep.harvests:
             run, cold = h.running_w[hours], h.cold_w[hours]
-            if h.kind in OUTAGE_KINDS and down_c.any():
+            if stops_in_outage(h.kind) and down_c.any():
                 run, cold = np.where(down_c, 0.0, run), np.where(down_c, 0.0, cold)
             per_source_run.append(run)
             per_source_cold.append(cold)

@@ -37,7 +37,7 @@ from typing import Annotated, Any, Literal
 import numpy as np
 import pandas as pd
 import pvlib
-from pydantic import Field, field_validator, model_validator
+from pydantic import Field, SerializerFunctionWrapHandler, field_validator, model_serializer, model_validator
 
 from .errors import SiteInputError
 from .fields import Section, quantity
@@ -97,6 +97,20 @@ class SyntheticWeatherSpec(Section):
         8.0, "degC", "Mean difference between the daily maximum and minimum air temperature",
         ge=0.0, le=30.0, step=0.5)
     seed: int = Field(1, ge=0, description="Seed of the random generator: the same seed gives the same year")
+
+    @model_serializer(mode="wrap")
+    def _leave_out_place_defaults(self, handler: SerializerFunctionWrapHandler) -> dict[str, Any]:
+        """Defaults that depend on the spot's hemisphere are not written out: a saved site file reopened
+        (or moved to another latitude) resolves them again for its own place."""
+        data = handler(self)
+        for name in PLACE_DEPENDENT_DEFAULTS:
+            if name not in self.model_fields_set:
+                data.pop(name, None)
+        return data
+
+
+# Fields of SyntheticWeatherSpec whose default is resolved by latitude (see synthetic_weather.seasonal_inputs).
+PLACE_DEPENDENT_DEFAULTS = ("monthly_clearness", "monthly_temp_c")
 
 
 class WeatherSpec(Section):
@@ -165,6 +179,76 @@ class WeatherMeta:
     utc_offset_h: float
     source: str
     notes: list[str] = field(default_factory=list)
+    far_station: FarStation | None = None
+
+
+# A weather year stands for a spot when its station is near enough to share the spot's climate and
+# seasons. Thresholds (common practice for choosing a typical-year station; no single standard):
+# farther than 200 km, more than 3 degrees of latitude apart, or on the other side of the equator.
+FAR_STATION_KM = 200.0
+FAR_STATION_LATITUDE_DEG = 3.0
+EARTH_KM_PER_DEG = 111.2  # mean great-circle kilometres per degree (6371 km x pi / 180)
+
+
+@dataclass
+class FarStation:
+    """The weather year's station is too far from the spot to stand for it.
+
+    Attributes
+    ----------
+    station_latitude_deg, station_longitude_deg : float
+        Where the weather year was measured [deg north, deg east].
+    distance_km : float
+        Great-circle distance from the station to the spot [km].
+    latitude_difference_deg : float
+        Spot latitude minus station latitude [deg].
+    other_hemisphere : bool
+        Station and spot lie on opposite sides of the equator (seasons six months apart).
+    """
+
+    station_latitude_deg: float
+    station_longitude_deg: float
+    distance_km: float
+    latitude_difference_deg: float
+    other_hemisphere: bool
+
+    @property
+    def reasons(self) -> list[str]:
+        """Which thresholds are passed, in words."""
+        out = []
+        if self.distance_km > FAR_STATION_KM:
+            out.append(f"more than {FAR_STATION_KM:g} km")
+        if abs(self.latitude_difference_deg) > FAR_STATION_LATITUDE_DEG:
+            out.append(f"{abs(self.latitude_difference_deg):.1f} degrees of latitude apart, more than "
+                       f"{FAR_STATION_LATITUDE_DEG:g}")
+        if self.other_hemisphere:
+            out.append("on the other side of the equator, with seasons six months apart")
+        return out
+
+    @property
+    def sentence(self) -> str:
+        """One plain sentence: what is far, and what to do."""
+        return (f"The weather station ({self.station_latitude_deg:.2f}, {self.station_longitude_deg:.2f}) lies "
+                f"{self.distance_km:,.0f} km from the spot and does not stand for it ({'; '.join(self.reasons)}). "
+                "Use a weather file from near the spot, or the synthetic year for the spot's own place "
+                "([weather] synthetic = {}).")
+
+    def to_json(self) -> dict[str, Any]:
+        return {"station_latitude_deg": round(self.station_latitude_deg, 4),
+                "station_longitude_deg": round(self.station_longitude_deg, 4),
+                "distance_km": round(self.distance_km, 1),
+                "latitude_difference_deg": round(self.latitude_difference_deg, 3),
+                "other_hemisphere": self.other_hemisphere, "reasons": self.reasons,
+                "message": self.sentence, "fix": {"weather": {"synthetic": {}}}}
+
+
+def far_station(station_lat_deg: float, station_lon_deg: float, spot_lat_deg: float,
+                spot_lon_deg: float) -> FarStation | None:
+    """A :class:`FarStation` when the station passes any threshold above, else ``None``."""
+    distance_km = angular_distance_deg(station_lat_deg, station_lon_deg, spot_lat_deg, spot_lon_deg) * EARTH_KM_PER_DEG
+    found = FarStation(float(station_lat_deg), float(station_lon_deg), float(distance_km),
+                       float(spot_lat_deg - station_lat_deg), bool(station_lat_deg * spot_lat_deg < 0))
+    return found if found.reasons else None
 
 
 # --------------------------------------------------------------------------------------------------
@@ -433,7 +517,37 @@ def _normalise(name: str) -> str:
 
 
 def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
+    """A CSV weather file: ``# key = value`` header lines, then a table with a time column and one row an hour."""
     lines = _read_text(path, name).splitlines()
+    header, n_comment = _csv_header(lines, name)
+    frame = _table("\n".join(lines[n_comment:]), name, "a CSV table: a header line, then one row per hour",
+                   first_line=n_comment + 1)
+    if frame.shape[1] < 2 or frame.empty:
+        raise SiteInputError("a CSV table with a time column and a GHI column, one row per hour",
+                             file=name, got=f"{frame.shape[1]} columns, {len(frame)} rows")
+    first_line = n_comment + 2
+    normalised = {col: _normalise(col) for col in frame.columns}
+    time_col = next((c for c in frame.columns if normalised[c] in CSV_TIME_NAMES), frame.columns[0])
+    stamps_text = frame[time_col].astype(str).str.strip()
+    utc_offset_h = header.get("utc_offset_h", given.get("utc_offset_h"))
+    stamps, utc_offset_h, notes = _csv_stamps(stamps_text, utc_offset_h, "utc_offset_h" in header, name,
+                                              str(time_col), first_line)
+    if header.get("time_label", "start") == "end":
+        stamps = stamps - pd.Timedelta(hours=1)
+    data, names = _csv_columns(frame, normalised, time_col, name)
+    return _Raw(
+        data=pd.DataFrame(data), start=stamps, labels=stamps_text.to_numpy(),
+        lines=np.arange(len(frame)) + first_line, time_field=str(time_col), file_columns=names,
+        all_columns=[str(c) for c in frame.columns],
+        latitude_deg=header.get("latitude_deg", given.get("latitude_deg")),
+        longitude_deg=header.get("longitude_deg", given.get("longitude_deg")),
+        altitude_m=header.get("altitude_m", given.get("altitude_m")),
+        utc_offset_h=float(utc_offset_h), notes=notes,
+    )
+
+
+def _csv_header(lines: list[str], name: str) -> tuple[dict[str, Any], int]:
+    """The ``# key = value`` pairs above a CSV table that we know, and how many lines they take."""
     header: dict[str, Any] = {}
     n_comment = 0
     for n_comment, line in enumerate(lines):
@@ -453,18 +567,16 @@ def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
             header[ours] = _header_number(value, ours, name, n_comment + 1, shown=key)
     else:
         n_comment = len(lines)
-    body = "\n".join(lines[n_comment:])
-    frame = _table(body, name, "a CSV table: a header line, then one row per hour", first_line=n_comment + 1)
-    if frame.shape[1] < 2 or frame.empty:
-        raise SiteInputError("a CSV table with a time column and a GHI column, one row per hour",
-                             file=name, got=f"{frame.shape[1]} columns, {len(frame)} rows")
-    first_line = n_comment + 2
-    normalised = {col: _normalise(col) for col in frame.columns}
+    return header, n_comment
 
-    time_col = next((c for c in frame.columns if normalised[c] in CSV_TIME_NAMES), frame.columns[0])
-    stamps_text = frame[time_col].astype(str).str.strip()
+
+def _csv_stamps(stamps_text: pd.Series, utc_offset_h: float | None, offset_in_header: bool, name: str,
+                time_col: str, first_line: int) -> tuple[pd.DatetimeIndex, float, list[str]]:
+    """Timestamps in the file's local standard time, the UTC offset used and a note when it was assumed.
+
+    Either every timestamp carries a UTC offset or none does; without any, the offset comes from the
+    header or the site."""
     with_offset = stamps_text.str.contains(_ANY_OFFSET)
-    utc_offset_h = header.get("utc_offset_h", given.get("utc_offset_h"))
     notes: list[str] = []
     if with_offset.any():
         if not with_offset.all():
@@ -482,17 +594,20 @@ def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
             raise SiteInputError("the file's UTC offset: a '# utc_offset_h = 1' line above the table or "
                                  "offsets in the timestamps (2025-01-01T00:00+01:00)",
                                  file=name, field="utc_offset_h")
-        if "utc_offset_h" not in header:
+        if not offset_in_header:
             notes.append(f"{name} gives no UTC offset: the site's (UTC{float(utc_offset_h):+g} h) is used")
     if stamps.isna().any():
         bad = int(np.argmax(stamps.isna()))
         raise SiteInputError("ISO 8601 timestamps such as 2025-01-01 00:00", file=name, field=time_col,
                              got=stamps_text.iloc[bad], line=first_line + bad)
-    if header.get("time_label", "start") == "end":
-        stamps = stamps - pd.Timedelta(hours=1)
+    return stamps, float(utc_offset_h), notes
 
-    data = {}
-    names = {}
+
+def _csv_columns(frame: pd.DataFrame, normalised: dict[Any, str], time_col: Any,
+                 name: str) -> tuple[dict[str, np.ndarray], dict[str, str]]:
+    """Our quantities found among the table's columns by their aliases: values and the file's column names."""
+    data: dict[str, np.ndarray] = {}
+    names: dict[str, str] = {}
     for ours, aliases in CSV_ALIASES.items():
         matches = [c for c in frame.columns if c != time_col and normalised[c] in aliases]
         if len(matches) > 1:
@@ -501,15 +616,7 @@ def _read_csv(path: Path, name: str, **given: Any) -> _Raw:
         if matches:
             data[ours] = frame[matches[0]].to_numpy()
             names[ours] = str(matches[0])
-    return _Raw(
-        data=pd.DataFrame(data), start=stamps, labels=stamps_text.to_numpy(),
-        lines=np.arange(len(frame)) + first_line, time_field=str(time_col), file_columns=names,
-        all_columns=[str(c) for c in frame.columns],
-        latitude_deg=header.get("latitude_deg", given.get("latitude_deg")),
-        longitude_deg=header.get("longitude_deg", given.get("longitude_deg")),
-        altitude_m=header.get("altitude_m", given.get("altitude_m")),
-        utc_offset_h=float(utc_offset_h), notes=notes,
-    )
+    return data, names
 
 
 _READERS: dict[str, Callable[..., _Raw]] = {"tmy3": _read_tmy3, "epw": _read_epw, "csv": _read_csv}
@@ -929,7 +1036,8 @@ def load_weather_year(
 
     A synthetic year is made for the spot's place. A file's own UTC offset wins for the frame's
     index; ``meta.notes`` says so when it differs from the spot's, and when the file's station lies
-    more than 1 degree (great circle) from the spot.
+    more than 1 degree (great circle) from the spot. A station past the thresholds of :class:`FarStation`
+    is set as ``meta.far_station`` (and its sentence is the note).
 
     Parameters
     ----------
@@ -960,7 +1068,11 @@ def load_weather_year(
     if not (math.isnan(meta.latitude_deg) or math.isnan(meta.longitude_deg)):
         distance = angular_distance_deg(meta.latitude_deg, meta.longitude_deg, place.latitude_deg,
                                         place.longitude_deg)
-        if distance > 1.0:
+        meta.far_station = (far_station(meta.latitude_deg, meta.longitude_deg, place.latitude_deg,
+                                        place.longitude_deg) if spec.source_kind != "synthetic" else None)
+        if meta.far_station is not None:
+            meta.notes.append(meta.far_station.sentence)
+        elif distance > 1.0:
             meta.notes.append(
                 f"the weather station ({meta.latitude_deg:.2f}, {meta.longitude_deg:.2f}) lies "
                 f"{distance:.1f} degrees (about {distance * 111.2:.0f} km) from the spot")

@@ -32,6 +32,7 @@ from siteharvest_app.tables import VERDICT_ORDER, verdict_rank
 from siteharvest_app.uploads import upload_store
 
 from siteharvest.assess import assess
+from siteharvest.findings import STATUSES, headline
 from siteharvest.site import load_site, parse_site
 from siteharvest.sources.solar import TECHNOLOGY_PRESETS
 
@@ -110,7 +111,7 @@ def test_summary_table_lists_every_source_and_all_together(four):
     assert "synthetic year" in json.dumps(notes[0].to_plotly_json(), default=str)  # Assessment.warnings
     assert [t.name for t in fig.data] == ["panel", "lamp-cell", "pipe", "pump", "node demand"]
     text = json.dumps(table.to_plotly_json(), default=str)
-    for source_id in ("panel", "lamp-cell", "pipe", "pump", "all together"):
+    for source_id in ("panel", "lamp-cell", "pipe", "pump", "all sources together"):
         assert source_id in text
     assert [o["value"] for o in options] == ["panel", "lamp-cell", "pipe", "pump", "all-sources"]
     assert value == "panel"
@@ -309,8 +310,9 @@ def test_portfolio_lists_every_spot_with_its_best_source(four, site_file):
     rows = cb.portfolio(ids.TAB_PORTFOLIO, spots, {})
     assert [r["key"] for r in rows] == list(spots)
     a = assessment_for(spots[key], {})
-    best = min(a.sources, key=lambda c: (c.deficit_days, c.first_wake_hours, -c.annual_energy_wh))
+    best = next(c for c in a.sources if c.id == headline(a).source.id)  # the library's pick
     assert rows[0]["best"] == best.id and rows[0]["deficit_days"] == best.deficit_days
+    assert rows[0]["status"] in STATUSES and rows[0]["weather"]
     assert rows[1]["best"] == "panel"
 
 

@@ -35,6 +35,7 @@ from siteharvest_app.factory import create_app
 from siteharvest_app.uploads import upload_store
 
 from siteharvest.assess import COMBINED_ID, assess
+from siteharvest.findings import bigger_store_misses, interval_text
 from siteharvest.site import load_site, parse_site
 from siteharvest.sizing import report_interval, sizing_map, weather_risk
 
@@ -108,7 +109,8 @@ def test_sizing_view_draws_the_map_with_units_and_names_the_pick(study, task):
     assert any(t.name.startswith("pick") for t in fig.data)
     iv = report_interval(prep, "panel", max_deficit_days=2)
     assert iv is not None and iv.shortest_every_s is not None
-    assert f"'read and send' every {cs._interval(iv.shortest_every_s)}" in text
+    # the task named as the report is varied, and named with why it was chosen
+    assert f"'read and send' (the task named as the report) every {interval_text(iv.shortest_every_s)}" in text
 
 
 def test_both_pick_wordings_are_covered(study):
@@ -121,7 +123,8 @@ def test_both_pick_wordings_are_covered(study):
         m = sizing_map(assess(parse_site(site)).prepared, "panel", n_harvester=cs.SIZING_STEPS,
                        n_store=cs.SIZING_STEPS, max_deficit_days=2)
         edges.append(m.pick_at_edge)
-    assert edges == [True, False]
+    # the map widens until its frontier lies inside it, so neither pick sits on the edge any more
+    assert edges == [False, False]
 
 
 def test_another_target_moves_the_pick(study):
@@ -197,9 +200,9 @@ def test_bigger_store_doing_worse_is_spotted():
     def grid(rows):
         return SimpleNamespace(deficit_days=np.array(rows), target_deficit_days=1)
 
-    assert cs.bigger_store_misses(grid([[9, 0, 0, 5], [9, 9, 0, 0]]))  # passes, then misses with more store
-    assert not cs.bigger_store_misses(grid([[9, 1, 0, 0], [9, 9, 9, 9]]))
-    assert not cs.bigger_store_misses(grid([[9, 9], [9, 9]]))
+    assert bigger_store_misses(grid([[9, 0, 0, 5], [9, 9, 0, 0]]))  # passes, then misses with more store
+    assert not bigger_store_misses(grid([[9, 1, 0, 0], [9, 9, 9, 9]]))
+    assert not bigger_store_misses(grid([[9, 9], [9, 9]]))
 
 
 # --------------------------------------------------------------------------------------------------

@@ -146,8 +146,8 @@ def test_pdf_sizing_and_risk_numbers_are_those_of_the_studies(plant_text):
            f"{fmt_size(m.store_sizes[j], m.store_unit)}"
     assert pick in plant_text
     room = sizing_map(prep, "room-light", n_harvester=FAST["sizing_steps"], n_store=FAST["sizing_steps"])
-    assert room.pick is None and "room-light misses the target as drawn (365 deficit days) and nothing in the map " \
-        "passes" in plant_text                                          # said plainly when nothing passes
+    assert room.pick is None and "room-light has 365 deficit days a year: it misses the target" in plant_text
+    assert "Nothing in this map meets the target" in plant_text         # said plainly when nothing passes
     risk = weather_risk(prep, years=FAST["risk_years"], seed=1)
     r = risk.summary("bearing-shaker")
     row = (f"bearing-shaker {r['p50']:.0f} {r['p90']:.0f} {r['p99']:.0f} {r['mean']:.1f} "

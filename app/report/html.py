@@ -23,7 +23,18 @@ from pydantic import BaseModel
 import siteharvest
 from siteharvest.assess import Assessment, CaseResult
 from siteharvest.fields import bounds_of
-from siteharvest.metrics import J_PER_WH, monthly_sum
+from siteharvest.findings import (
+    PICK_RULE,
+    case_findings,
+    demand_summary,
+    drawn_cell,
+    interval_finding,
+    interval_text,
+    size_text,
+    sizing_finding,
+    source_inputs,
+    weather_warning,
+)
 from siteharvest.sizing import SizingMap
 from siteharvest.store import backup_life_text
 from siteharvest.timegrid import REFERENCE_YEAR
@@ -44,7 +55,7 @@ from .methods import (
     collect_references,
     modules_for,
 )
-from .study import SpotStudy, case_label, drawn_cell, portfolio_sha256, ranked
+from .study import SpotStudy, case_label, portfolio_sha256, ranked
 
 SvgMaker = Callable[[go.Figure, str], str]
 MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
@@ -80,15 +91,7 @@ def fmt_hours(h: float) -> str:
     return f"{h:,.0f}"
 
 
-def fmt_interval_s(s: float) -> str:
-    """A task period in plain units: 45 s, 12 min, 2.5 h, 1.2 days."""
-    if s < 120:
-        return f"{s:.3g} s"
-    if s < 2 * 3600:
-        return f"{s / 60:.3g} min"
-    if s < 2 * 86400:
-        return f"{s / 3600:.3g} h"
-    return f"{s / 86400:.3g} days"
+fmt_interval_s = interval_text  # a task period in plain units: 45 s, 12 min, 2.5 h, 1.2 days
 
 
 def fmt_value(value: Any) -> str:
@@ -104,14 +107,7 @@ def fmt_value(value: Any) -> str:
     return str(value)
 
 
-def fmt_size(value: float, unit: str, field: str = "") -> str:
-    """A harvester or store size with its unit (``3 modules``, ``6.17 cm²``, ``0.47 F``)."""
-    shown = unit_text(unit, integer=float(value).is_integer())
-    text = f"{value:.3g}"
-    if shown == "count":
-        noun = "module" if field == "modules" else "unit"
-        return f"{text} {noun}{'' if value == 1 else 's'}"
-    return text if shown == "-" else f"{text} {shown}"
+fmt_size = size_text  # a harvester or store size with its unit: 3 modules, 6.17 cm², 0.47 F
 
 
 def e(x: Any) -> str:
@@ -169,34 +165,30 @@ def print_ready_calendar(fig: go.Figure, case: CaseResult) -> go.Figure:
 
 
 def answer_sentence(study: SpotStudy) -> str:
-    a = study.assessment
-    best = study.best
-    assert a is not None and best is not None
-    target = study.target
-    limit = "no deficit day" if target == 0 else f"at most {target} deficit day{'s' if target != 1 else ''}"
-    if study.passes(best):
-        return (f"<strong>Yes.</strong> With <strong>{e(best.id)}</strong> ({e(best.kind)}) the node has "
-                f"{best.deficit_days} deficit day{'s' if best.deficit_days != 1 else ''} in the year "
-                f"(target: {limit}); verdict <em>{e(best.verdict)}</em>.")
-    if study.passes(a.combined) and len(a.sources) > 1:
-        return (f"<strong>Only with all sources together.</strong> No single source meets the target ({limit}); "
-                f"together they give {a.combined.deficit_days} deficit days, verdict "
-                f"<em>{e(a.combined.verdict)}</em>.")
-    return (f"<strong>Not as drawn.</strong> The best source, <strong>{e(best.id)}</strong> ({e(best.kind)}), "
-            f"leaves {best.deficit_days} deficit days a year (target: {limit}); verdict "
-            f"<em>{e(best.verdict)}</em>. See <em>What would make it pass</em>.")
+    """The headline answer, its reason, the far-weather warning and the sources that need a survey."""
+    a, top = study.assessment, study.headline
+    assert a is not None and top is not None
+    out = f"<strong>{e(top.answer)}</strong> {e(top.sentence)} {e(top.reason)}"
+    far = weather_warning(a)
+    if far is not None:
+        out += f'</p><p class="warn"><strong>Weather year far from the spot.</strong> {e(far.sentence)}'
+    surveys = [si.sentence for si in map(source_inputs, a.spec.source) if si.needs_survey]
+    if surveys:
+        out += '</p><p class="warn"><strong>Needs a survey.</strong> ' + " ".join(e(t) for t in surveys)
+    return out
 
 
 def results_section(study: SpotStudy) -> str:
     a = study.assessment
     assert a is not None
+    found = case_findings(a)
     rows = []
     for c in a.cases:
         rows.append([case_label(c), c.kind if c.kind != "combined" else "-", c.verdict,
-                     "meets" if study.passes(c) else "misses", fmt_energy_wh(c.annual_energy_wh),
+                     found[c.id].status, fmt_energy_wh(c.annual_energy_wh),
                      str(c.deficit_days), fmt_hours(c.first_wake_hours), f"{c.longest_outage_hours:,}",
                      backup_life_text(c.backup_life_years, a.backup.shelf_life_years)])
-    demand_wh = float(a.prepared.demand_j.sum() / J_PER_WH)
+    demand_wh = demand_summary(a).annual_energy_wh
     backup = (f"{a.backup.cell} ({'assumed reference cell' if a.backup_is_assumed else 'as named in the site file'})")
     intro = (f"<p>The node draws {a.mean_power_uw:,.1f} µW on average, {fmt_energy_wh(demand_wh)} Wh a year. "
              f"The store holds {a.usable_energy_j:,.3g} J between full and cut-off, about "
@@ -209,14 +201,16 @@ def results_section(study: SpotStudy) -> str:
     return ("<h2>Results per source</h2>" + intro
             + table(head, rows, num=(4, 5, 6, 7, 8), cls="results")
             + '<p class="small">Target: at most ' + str(study.target) + " deficit days a year "
-            "(<code>run.target_deficit_days</code>), with a first wake. First wake: hours from installation "
-            "with an empty store; longest outage: hours off in a row after that.</p>")
+            "(<code>run.target_deficit_days</code>), with a first wake; <em>needs a survey</em>: it would meet "
+            "the target, but an input that decides its yield is assumed (see <em>The spot and every input</em>). "
+            "First wake: hours from installation with an empty store; longest outage: hours off in a row after "
+            "that.</p>")
 
 
 def monthly_section(study: SpotStudy, svg: SvgMaker) -> str:
     a = study.assessment
     assert a is not None
-    demand = monthly_sum(a.prepared.demand_j) / J_PER_WH
+    demand = demand_summary(a).monthly_energy_wh
     rows = [[case_label(c)] + [fmt_sig(v, 3) for v in c.monthly_energy_wh] + [fmt_energy_wh(c.annual_energy_wh)]
             for c in a.cases]
     rows.append(["node demand"] + [fmt_sig(v, 3) for v in demand] + [fmt_energy_wh(float(demand.sum()))])
@@ -249,69 +243,25 @@ def year_section(study: SpotStudy, svg: SvgMaker) -> str:
 
 
 def _pick_text(m: SizingMap) -> str:
-    if m.pick is None:
-        return "nothing in the map"
-    i, j = m.pick
-    edge = " (edge of the map)" if m.pick_at_edge else ""
-    return (f"{fmt_size(m.harvester_sizes[i], m.harvester_unit, m.harvester_field)} + "
-            f"{fmt_size(m.store_sizes[j], m.store_unit)}{edge}")
+    f = sizing_finding(m)
+    return f.pick_text + (" (edge of the map)" if f.pick_at_edge else "")
 
 
 def _case_sentence(study: SpotStudy, case: CaseResult) -> str:
-    """What would make this case pass (or how much smaller it could be), in words."""
+    """What would make this case pass (or how much smaller it could be): the findings' sentences."""
     m = study.maps.get(case.id)
     parts = []
-    target = study.target
     if m is not None:
-        name = SIZE_LABELS.get(m.harvester_field, m.harvester_field).lower()
-        store = SIZE_LABELS.get(m.store_field, m.store_field).lower()
-        if study.passes(case):
-            if m.pick is not None:
-                parts.append(f"<strong>{e(case.id)}</strong> meets the target as drawn. The least harvester and "
-                             f"store in the map that still meet it: {name} and {store} of {e(_pick_text(m))}.")
-        elif m.pick is not None:
-            i, j = m.pick
-            fw = m.first_wake_hours[i, j]
-            wake = f"first wake after {fmt_hours(fw)} h" if np.isfinite(fw) else "no wake within 90 days"
-            edge = (" This sits at the edge of the map: less may pass too." if m.pick_at_edge else "")
-            parts.append(f"<strong>{e(case.id)}</strong> misses the target as drawn ({case.deficit_days} deficit "
-                         f"days). It meets it (at most {target}) with a {name} of "
-                         f"<strong>{e(fmt_size(m.harvester_sizes[i], m.harvester_unit, m.harvester_field))}</strong> "
-                         f"and a {store} of <strong>{e(fmt_size(m.store_sizes[j], m.store_unit))}</strong> "
-                         f"({int(m.deficit_days[i, j])} deficit days, {wake}).{edge}")
-            others = [f"{fmt_size(m.harvester_sizes[a], m.harvester_unit, m.harvester_field)} + "
-                      f"{fmt_size(m.store_sizes[b], m.store_unit)}" for a, b in m.frontier if (a, b) != m.pick]
-            if others:
-                parts.append("Other least combinations that pass (the frontier): " + e("; ".join(others[:6]))
-                             + (" ..." if len(others) > 6 else "") + ".")
-        else:
-            top = (f"{fmt_size(m.harvester_sizes[-1], m.harvester_unit, m.harvester_field)} and "
-                   f"{fmt_size(m.store_sizes[-1], m.store_unit)}")
-            fewest = int(m.deficit_days.min())
-            if fewest == int(m.deficit_days.max()):
-                where = f"every combination in it (up to {top}) leaves {fewest} deficit days"
-            else:
-                k = np.unravel_index(int(np.argmin(m.deficit_days)), m.deficit_days.shape)
-                where = (f"the fewest deficit days in it are {fewest}, with "
-                         f"{fmt_size(m.harvester_sizes[k[0]], m.harvester_unit, m.harvester_field)} and "
-                         f"{fmt_size(m.store_sizes[k[1]], m.store_unit)} (map up to {top})")
-            parts.append(f"<strong>{e(case.id)}</strong> misses the target as drawn ({case.deficit_days} deficit "
-                         f"days) and <strong>nothing in the map passes</strong>: {e(where)}.")
+        f = sizing_finding(m, case)
+        parts = [f"<strong>{e(f.drawn_sentence)}</strong>", e(f.pick_sentence), e(f.edge_sentence),
+                 e(f.bigger_store_sentence), "" if f.meets_as_drawn else e(f.frontier_sentence)]
     elif not study.passes(case):
         parts.append(f"<strong>{e(case_label(case))}</strong> misses the target as drawn "
                      f"({case.deficit_days} deficit days).")
-    if case.id in study.intervals:
-        iv = study.intervals[case.id]
-        if iv is None:
-            pass
-        elif iv.shortest_every_s is None:
-            parts.append(f"Running '{e(iv.task)}' less often does not rescue it: even once a week it misses the "
-                         "target.")
-        else:
-            parts.append(f"Or keep the hardware and run '{e(iv.task)}' every "
-                         f"<strong>{e(fmt_interval_s(iv.shortest_every_s))}</strong> at most "
-                         f"(drawn: every {e(fmt_interval_s(iv.drawn_every_s))}).")
-    return " ".join(parts)
+    iv = study.intervals.get(case.id)
+    if iv is not None:
+        parts.append(e(interval_finding(iv).sentence))
+    return " ".join(p for p in parts if p)
 
 
 def sizing_section(study: SpotStudy, svg: SvgMaker) -> str:
@@ -429,6 +379,15 @@ def inputs_section(study: SpotStudy) -> str:
                                              ("[node]", spec.node), ("[store]", spec.store)]
     sections += [(f"[[source]] {i}: {src.id} ({src.kind})", src) for i, src in enumerate(spec.source)]
     sections.append(("[run]", spec.run))
+    rows = []
+    for src in spec.source:
+        si = source_inputs(src)
+        rows.append([si.source_id, si.kind, ", ".join(si.given) or "-", ", ".join(si.assumed) or "-",
+                     "needs a survey" if si.needs_survey else "-"])
+    out.append("<h3>Deciding inputs: given or assumed</h3><p>The inputs that decide each source's yield at this "
+               "spot. Assumed: left at its default (a default written out counts as assumed). A source whose "
+               "survey input is assumed needs a survey before its result counts.</p>"
+               + table(["Source", "Kind", "Given", "Assumed", "Survey"], rows, cls="inputs"))
     for title, model in sections:
         out.append(f"<h3>{e(title)}</h3>" + table(head, input_rows(model), cls="inputs"))
     return "".join(out)
@@ -441,7 +400,8 @@ def appendix_section(study: SpotStudy) -> str:
     files = [[f.role, f.name, f.sha256 or "could not be read"] for f in study.input_files]
     file_table = table(["Input file", "Name", "SHA-256"], files, cls="hashes") if files else ""
     return ('<section class="appendix"><h2>Appendix: the site file</h2>'
-            "<p>The site file as siteharvest read it, defaults written out: loading it again gives the same "
+            "<p>The site file as siteharvest read it, defaults written out (except those that depend on the "
+            "spot's hemisphere, which are resolved again for its place): loading it again gives the same "
             "inputs. The inputs' SHA-256 covers this text and the bytes of every file it names.</p>"
             f'<p class="screen-only"><a download="{e(stem)}.toml" href="data:text/plain;charset=utf-8;base64,'
             f'{b64}">Download this site file</a></p>'
@@ -515,10 +475,11 @@ def ranking_section(studies: Sequence[SpotStudy]) -> str:
             b = s.best
             rows.append([str(n), f'<a href="{anchor}">{e(s.spec.spot.name)}</a><br><span class="sub">{e(s.label)}'
                          "</span>", f'{e(b.id)}<br><span class="sub">{e(b.kind)}</span>', str(b.deficit_days),
-                         e(b.verdict), "meets" if s.passes(b) else "misses", e(fmt_hours(b.first_wake_hours))])
+                         e(b.verdict), e(s.headline.source.status), e(fmt_hours(b.first_wake_hours)),
+                         _weather_flag(s)])
         else:
             rows.append(["-", f'<span class="error">could not be read</span><br><span class="sub">{e(s.label)}'
-                         "</span>", "-", "-", "-", "-", "-"])
+                         "</span>", "-", "-", "-", "-", "-", "-"])
     broken = [s for s in studies if not s.ok]
     errors = ""
     if broken:
@@ -526,7 +487,13 @@ def ranking_section(studies: Sequence[SpotStudy]) -> str:
                   "is put right:</p><ul class='errors'>" + "".join(f"<li>{e(s.error)}</li>" for s in broken)
                   + "</ul>")
     return (table(["Rank", "Spot and site file", "Best source and kind", "Deficit days [days/yr]", "Verdict",
-                   "Target", "First wake [h]"], rows, num=(0, 3, 6), cls="ranking", raw=True) + errors)
+                   "Target", "First wake [h]", "Weather year"], rows, num=(0, 3, 6), cls="ranking", raw=True)
+            + errors)
+
+
+def _weather_flag(s: SpotStudy) -> str:
+    far = weather_warning(s.assessment) if s.assessment is not None else None
+    return "near" if far is None else f'<strong class="error">far: {far.distance_km:,.0f} km</strong>'
 
 
 def portfolio_cover(studies: Sequence[SpotStudy], title: str, generated: str) -> str:
@@ -539,8 +506,8 @@ def portfolio_cover(studies: Sequence[SpotStudy], title: str, generated: str) ->
             f"portfolio</p><h1>{e(title or 'Portfolio of spots')}</h1>"
             f'<p class="question">{e(PORTFOLIO_QUESTION)}</p><dl class="meta">{dl}</dl></header>'
             "<h2>Spots ranked by their best source</h2>"
-            "<p>Best source: the one with the fewest deficit days, then the earliest first wake, then the most "
-            "energy. Each spot's own section follows, in the order of the site files.</p>"
+            f"<p>Best source: {e(PICK_RULE[len('The pick: '):])} Each spot's own section follows, in the order "
+            "of the site files.</p>"
             + ranking_section(studies) + "</section>")
 
 
@@ -568,6 +535,7 @@ dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 0 8pt; fon
 dl.meta dt { font-weight: bold; } dl.meta dd { margin: 0; word-break: break-all; }
 .answer { border: 1.5pt solid #111; padding: 5pt 8pt; margin: 8pt 0; break-inside: avoid; }
 .answer p { margin: 0; font-size: 10.5pt; }
+.answer p.warn { margin-top: 4pt; padding-top: 3pt; border-top: 0.8pt solid #111; font-size: 9.5pt; }
 table { border-collapse: collapse; width: 100%; font-size: 8pt; margin: 4pt 0 6pt; }
 th, td { border: 0.5pt solid #666; padding: 1.5pt 3.5pt; text-align: left; vertical-align: top; }
 th { background: #e8e8e8; font-weight: bold; }

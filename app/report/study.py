@@ -5,16 +5,15 @@ fingerprint of the inputs. No HTML here.
 from __future__ import annotations
 
 import hashlib
-import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import numpy as np
-
-from siteharvest.assess import COMBINED_ID, Assessment, CaseResult, assess
+from siteharvest import findings
+from siteharvest.assess import Assessment, CaseResult, assess
 from siteharvest.errors import SiteInputError
 from siteharvest.files import named_files
+from siteharvest.findings import Headline, headline
 from siteharvest.site import SiteSpec, dump_site, load_site
 from siteharvest.sizing import ReportInterval, SizingMap, WeatherRisk, report_interval, sizing_map, weather_risk
 from siteharvest.weather import pvlib_data_dir
@@ -49,6 +48,7 @@ class SpotStudy:
     risk: WeatherRisk | None = None
     risk_error: str | None = None
     early_parts: dict[str, str] = field(default_factory=dict)  # sections built before the studies
+    _headline: Headline | None = field(default=None, repr=False)
 
     @property
     def ok(self) -> bool:
@@ -59,19 +59,26 @@ class SpotStudy:
         return self.spec.run.target_deficit_days if self.spec is not None else 0
 
     @property
-    def best(self) -> CaseResult | None:
-        """The best single source: fewest deficit days, then earliest first wake, then most energy."""
-        if self.assessment is None or not self.assessment.sources:
+    def headline(self) -> Headline | None:
+        """The spot's answer and pick (see :func:`siteharvest.findings.headline`)."""
+        if self.assessment is None:
             return None
-        return min(self.assessment.sources, key=rank_key)
+        if self._headline is None:
+            self._headline = headline(self.assessment)
+        return self._headline
+
+    @property
+    def best(self) -> CaseResult | None:
+        """The headline pick's source."""
+        h = self.headline
+        if h is None or h.source is None or self.assessment is None:
+            return None
+        return next(c for c in self.assessment.sources if c.id == h.source.id)
 
     def passes(self, case: CaseResult) -> bool:
-        return case.deficit_days <= self.target and math.isfinite(case.first_wake_hours)
-
-
-def rank_key(case: CaseResult) -> tuple[float, float, float]:
-    fw = case.first_wake_hours
-    return (float(case.deficit_days), fw if math.isfinite(fw) else math.inf, -float(case.annual_energy_wh))
+        """The case meets the target on its numbers (see :func:`siteharvest.findings.case_finding`)."""
+        assert self.assessment is not None
+        return findings.case_finding(self.assessment, case).meets_target
 
 
 def expand_inputs(paths_or_specs: SiteInput | Sequence[SiteInput]) -> tuple[list[SiteInput], bool, str]:
@@ -184,16 +191,9 @@ def study_spot_or_error(item: SiteInput, *, portfolio: bool, sizing: bool = True
         return SpotStudy(label=Path(item.file).name if item.file else item.spot.name, file=item.file, error=error)
 
 
-def study_spots(items: Sequence[SiteInput], *, portfolio: bool, sizing: bool = True, risk_years: int = 200,
-                sizing_steps: int = 24, seed: int = 1) -> list[SpotStudy]:
-    """Study each spot; in a portfolio a spot with bad input is kept with its one-line error."""
-    return [study_spot_or_error(item, portfolio=portfolio, sizing=sizing, risk_years=risk_years,
-                                sizing_steps=sizing_steps, seed=seed) for item in items]
-
-
 def ranked(studies: Sequence[SpotStudy]) -> list[SpotStudy]:
     """Spots best first by their best source; spots that could not be studied last, in input order."""
-    good = sorted((s for s in studies if s.ok and s.best is not None), key=lambda s: rank_key(s.best))
+    good = sorted((s for s in studies if s.ok and s.best is not None), key=lambda s: s.headline.rank)
     return good + [s for s in studies if not (s.ok and s.best is not None)]
 
 
@@ -205,9 +205,4 @@ def portfolio_sha256(studies: Sequence[SpotStudy]) -> str:
 
 
 def case_label(case: CaseResult) -> str:
-    return "all sources together" if case.id == COMBINED_ID else case.id
-
-
-def drawn_cell(m: SizingMap) -> tuple[int, int]:
-    return (int(np.argmin(np.abs(m.harvester_sizes - m.harvester_drawn))),
-            int(np.argmin(np.abs(m.store_sizes - m.store_drawn))))
+    return findings.case_label(case.id)
