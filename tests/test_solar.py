@@ -21,6 +21,7 @@ from pydantic import ValidationError
 from validation import external_check
 
 from siteharvest.context import SpotContext
+from siteharvest.sources import SOURCE_KINDS
 from siteharvest.sources.solar import (
     TECHNOLOGY_PRESETS,
     SolarSource,
@@ -32,7 +33,6 @@ from siteharvest.sources.solar import (
     solar_output,
 )
 from siteharvest.sun import (
-    SOLAR_CONSTANT_W_M2,
     angle_of_incidence_deg,
     extraterrestrial_normal_w_m2,
     sun_position,
@@ -135,9 +135,11 @@ def test_context_positions_are_taken_at_mid_hour() -> None:
 def test_extraterrestrial_normal_irradiance() -> None:
     idx = reference_index(0.0)
     e0 = extraterrestrial_normal_w_m2(idx).to_numpy()
-    # annual mean equals the solar constant used: 1366.1 W/m2 (Gueymard 2004; pvlib default) [V]
-    assert SOLAR_CONSTANT_W_M2 == 1366.1
+    # annual mean: the solar constant, 1366.1 W/m2 (Gueymard 2004) [V]
     assert e0.mean() == pytest.approx(1366.1, rel=1e-3)
+    # every hour as pvlib's Spencer series computes it (a reference library) [C]
+    ref = pvlib.irradiance.get_extra_radiation(idx, method="spencer").to_numpy()
+    np.testing.assert_allclose(e0, ref, rtol=1e-3)
     # day 1: 1414.0 W/m2, Spencer (1971) series with G_sc 1366.1 W/m2, computed with pvlib 0.16.1 [C]
     assert e0[0] == pytest.approx(1414.0, rel=1e-3)
     # day 172: 1321.6 W/m2 (same source) [C]
@@ -443,8 +445,8 @@ def test_presets_fill_and_fields_override() -> None:
         "close_mount_glass_glass"]["a"]
     assert w.cell_temp_rise_c == 2.0
     assert SolarSource(id="d").conditioning.preset == "solar-cell-boost"
-    assert SolarSource.size_field == "area_cm2"
-    assert SolarSource.cautions == ("work_at_height", "electrical_enclosure")
+    assert SOURCE_KINDS["solar"].knob().field == "area_cm2"
+    assert SOURCE_KINDS["solar"].cautions == ("work_at_height", "electrical_enclosure")
 
 
 @pytest.mark.parametrize(("field", "value"), [

@@ -15,6 +15,7 @@ from validation import external_check
 
 from siteharvest.context import SpotContext
 from siteharvest.errors import SiteInputError
+from siteharvest.sources import SOURCE_KINDS
 from siteharvest.sources.thermoelectric import (
     MODULE_PRESETS,
     ConstantHotSide,
@@ -305,7 +306,8 @@ def test_magnitude_large_difference(ctx):
     spec = ThermoelectricSource(id="t", preset=LARGE, hot_side=120.0, hot_contact_resistance_k_w=0.1,
                                 heat_sink={"area_cm2": 400.0, "height_mm": 80.0})
     out = thermoelectric_output(spec, ctx)
-    mw_per_cm2 = out.power_w[0] * 1e3 / (spec.module_side_mm / 10.0) ** 2
+    side_cm = 4.0   # the large preset is a 40 mm square module (its name)
+    mw_per_cm2 = out.power_w[0] * 1e3 / side_cm**2
     assert 1.0 <= mw_per_cm2 <= 100.0
     # and a small dT gives far less: P ~ dT^2 (matched load, above)
     small = thermoelectric_output(spec.model_copy(update={"hot_side": ConstantHotSide(surface_c=25.0)}), ctx)
@@ -428,8 +430,10 @@ def test_presets_and_overrides():
     tuned = ThermoelectricSource(id="t", conditioning={"mppt_fraction": 0.8})
     assert tuned.conditioning.preset == "thermal-low-voltage-boost"
     assert tuned.conditioning.mppt_fraction == 0.8
-    assert ThermoelectricSource.size_field == "modules"
-    assert ThermoelectricSource.cautions == ("hot_surface", "work_at_height")
+    record = SOURCE_KINDS["thermoelectric"]
+    assert [k.field for k in record.size_knobs] == ["modules", "heat_sink.area_cm2"]
+    assert record.cautions == ("hot_surface", "work_at_height") and record.outage_stops
+    assert record.file_fields == ("hot_side.file",)
     assert isinstance(ThermoelectricSource(id="t", hot_side=55).hot_side, ConstantHotSide)
 
 
