@@ -33,14 +33,14 @@ import numpy as np
 from pydantic import BaseModel
 
 from .assess import COMBINED_ID, Harvest, Prepared, combine
-from .conditioning import condition
+from .conditioning import condition_levels
 from .demand import demand_energy_j
 from .errors import SiteInputError
 from .fields import bounds_of
 from .kernel import StoreArrays, simulate
 from .metrics import first_wake_hours
 from .schedule import WeeklySchedule
-from .sources import source_output
+from .sources import PowerLevel, source_output
 from .store import SupercapacitorSpec, store_levels
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, month_of_hour
 
@@ -239,19 +239,20 @@ def _harvest_at_sizes(prep: Prepared, index: int, sizes: np.ndarray, name: str) 
     if (spec.kind, name) in LINEAR_KNOBS:
         out = base.terminal if base.terminal is not None else source_output(spec, prep.context)
         scale = sizes[:, None] / drawn
-        power = out.power_w[None, :] * scale
-        volts = None
-        if out.voltage_v is not None:
-            series = spec.kind == "thermoelectric" and getattr(spec, "wiring", "") == "series"
-            volts = out.voltage_v[None, :] * (scale if series else 1.0)
+        series = spec.kind == "thermoelectric" and getattr(spec, "wiring", "") == "series"
+        levels = [PowerLevel(level.power_w[None, :] * scale,
+                             None if level.voltage_v is None else level.voltage_v[None, :] * (scale if series else 1.0),
+                             level.share) for level in out.power_levels()]
     else:
         outs = [source_output(spec.model_copy(update={name: type(getattr(spec, name))(v)}), prep.context)
                 for v in sizes]
-        power = np.array([o.power_w for o in outs])
-        volts = None if outs[0].voltage_v is None else np.array([o.voltage_v for o in outs])
-        if volts is None or any(o.voltage_v is None for o in outs):
-            volts = None
-    cond = condition(spec.conditioning, power, volts, prep.spec.store.representative_v)
+        per_size = [o.power_levels() for o in outs]
+        levels = []
+        for k in range(len(per_size[0])):
+            parts = [lv[k] for lv in per_size]
+            volts = None if any(p.voltage_v is None for p in parts) else np.array([p.voltage_v for p in parts])
+            levels.append(PowerLevel(np.array([p.power_w for p in parts]), volts, np.array([p.share for p in parts])))
+    cond = condition_levels(spec.conditioning, levels, prep.spec.store.representative_v)
     return Harvest(spec.id, spec.kind, base.label, cond.running_w, cond.cold_w, cond.quiescent_w,
                    spec.conditioning.cold_start_until_v)
 

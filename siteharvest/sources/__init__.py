@@ -13,7 +13,7 @@ from pydantic import Field
 
 from ..context import SpotContext
 from . import indoor_light, rf, solar, thermoelectric, vibration
-from .base import SourceBase, SourceOutput
+from .base import PowerLevel, SourceBase, SourceOutput
 
 SOURCE_KINDS: dict[str, tuple[type[SourceBase], Callable[[Any, SpotContext], SourceOutput]]] = {
     "solar": (solar.SolarSource, solar.solar_output),
@@ -38,4 +38,4 @@ def source_output(spec: SourceBase, ctx: SpotContext) -> SourceOutput:
     return SOURCE_KINDS[spec.kind][1](spec, ctx)  # type: ignore[attr-defined]
 
 
-__all__ = ["SOURCE_KINDS", "AnySource", "SourceBase", "SourceOutput", "source_output"]
+__all__ = ["SOURCE_KINDS", "AnySource", "PowerLevel", "SourceBase", "SourceOutput", "source_output"]

@@ -68,7 +68,7 @@ from ..context import SpotContext
 from ..errors import SiteInputError
 from ..fields import quantity
 from ..schedule import WeeklySchedule
-from .base import SourceBase, SourceOutput
+from .base import PowerLevel, SourceBase, SourceOutput
 
 BOLTZMANN_OVER_Q_V_K = 8.617333262e-5  # k/q [V/K] (CODATA 2018)
 HC_OVER_Q_NM_V = 1239.84198            # h c / q [V nm]: photon energy [eV] = 1239.84 / wavelength [nm]
@@ -447,9 +447,14 @@ def indoor_light_output(spec: IndoorLightSource, ctx: SpotContext) -> SourceOutp
     if spec.daylight_factor_pct > 0:
         notes.append("Daylight is skylight only (daylight factor method); direct sun through a window "
                      "onto the cell is not included.")
+    lit_level = PowerLevel(p_lit * area_m2, np.where(p_lit > 0, spec.cells_in_series * VMP_OVER_VOC * v_lit, 0.0),
+                           share)
+    dark_level = PowerLevel(p_dark * area_m2,
+                            np.where(p_dark > 0, spec.cells_in_series * VMP_OVER_VOC * v_dark, 0.0), 1.0 - share)
     return SourceOutput(
         power_w=power_w,
         voltage_v=voltage_v,
+        levels=[lit_level, dark_level],
         details={
             "illuminance_lx": mean_lamp_lx + daylight_lx,
             "lamp_illuminance_lx": mean_lamp_lx,

@@ -41,7 +41,7 @@ from ..context import SpotContext
 from ..fields import quantity
 from ..schedule import WeeklySchedule
 from ..timegrid import HOURS_PER_YEAR
-from .base import SourceBase, SourceOutput
+from .base import PowerLevel, SourceBase, SourceOutput
 
 SPEED_OF_LIGHT_M_S = 299_792_458.0
 
@@ -93,7 +93,8 @@ class RfSource(SourceBase):
                                         description="when the transmitter (or the ambient field) is on")
     duty_fraction: float = quantity(1.0, "-", "share of its on-hours the transmitter radiates", ge=0,
                                     le=1, step=0.01)
-    ambient_density_uw_cm2: float = quantity(0.1, "uW/cm2", "incident power density in ambient mode",
+    ambient_density_uw_cm2: float = quantity(0.001, "uW/cm2", "incident power density in ambient mode "
+                                             "(away from transmitter masts typically pW to nW per cm2)",
                                              gt=0, le=1e4)
     rectifier_curve: list[tuple[float, float]] = Field(
         default_factory=lambda: list(DEFAULT_RECTIFIER_CURVE), min_length=2,
@@ -375,6 +376,7 @@ def rf_output(spec: RfSource, ctx: SpotContext) -> SourceOutput:
     present = spec.transmitter.mask().astype(float) * spec.duty_fraction
     power_w = p_dc_on_w * present
     voltage_v = np.where(present > 0, np.sqrt(p_dc_on_w * spec.dc_load_ohm), 0.0)
+    beam = PowerLevel(np.where(present > 0, p_dc_on_w, 0.0), voltage_v, present)
 
     if p_in_dbm < spec.rectifier_sensitivity_dbm:
         text = (f"The rectifier input ({p_in_dbm:.1f} dBm) is below its sensitivity floor "
@@ -405,4 +407,5 @@ def rf_output(spec: RfSource, ctx: SpotContext) -> SourceOutput:
             "field_present_fraction": present,
         },
         notes=notes,
+        levels=[beam],
     )

@@ -73,7 +73,7 @@ from ..vibration_spectrum import (
     spectral_peaks,
     unit_factor,
 )
-from .base import SourceBase, SourceOutput
+from .base import PowerLevel, SourceBase, SourceOutput
 
 TWO_PI = 2.0 * math.pi
 SQRT2 = math.sqrt(2.0)
@@ -740,9 +740,11 @@ def vibration_output(spec: VibrationSource, ctx: SpotContext) -> SourceOutput:
         notes.append("The machine never runs by its schedule: nothing is harvested.")
     on = running.astype(float)
     power = on * point.power_w * spec.running_fraction
+    machine = PowerLevel(on * point.power_w, on * point.dc_v, on * spec.running_fraction)
     return SourceOutput(
         power_w=power,
         voltage_v=on * point.dc_v,
+        levels=[machine],
         details={
             "machine_running": on,
             "open_circuit_v": on * point.open_circuit_v,
