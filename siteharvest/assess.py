@@ -40,6 +40,7 @@ from .store import (
     backup_life_years,
     charge_allowed,
     esr_sag_warning,
+    leakage_temperature_factor,
     store_levels,
 )
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, hour_of_date
@@ -73,6 +74,7 @@ class Prepared:
     demand_j: np.ndarray
     harvests: list[Harvest]
     charge_allowed: np.ndarray
+    leak_scale: np.ndarray  # hourly factor on the store's leakage (its temperature) [-]
 
 
 @dataclass
@@ -233,7 +235,8 @@ def prepare(spec: SiteSpec, context: tuple[SpotContext, WeatherMeta] | None = No
         harvests.append(Harvest(src.id, src.kind, src.label or src.id, cond.running_w, cond.cold_w,
                                 cond.quiescent_w, src.conditioning.cold_start_until_v, out))
     allowed = charge_allowed(spec.store, ctx.air_temp_c)
-    return Prepared(spec, ctx, meta, demand_energy_j(spec.node), harvests, allowed)
+    return Prepared(spec, ctx, meta, demand_energy_j(spec.node), harvests, allowed,
+                    leakage_temperature_factor(spec.store, ctx.air_temp_c))
 
 
 def combine(harvests: list[Harvest]) -> Harvest:
@@ -273,10 +276,13 @@ def run_cases(prep: Prepared, harvests: list[Harvest]) -> tuple[KernelResult, li
     allow = np.array([np.tile(prep.charge_allowed, 2)] * n
                      + [_two_years(prep.charge_allowed, s) for s in starts]
                      + [np.tile(prep.charge_allowed, 2)] * n)
+    scale = np.array([np.tile(prep.leak_scale, 2)] * n + [_two_years(prep.leak_scale, s) for s in starts]
+                     + [np.tile(prep.leak_scale, 2)] * n)
     levels = [store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v,
                            quiescent_w=h.quiescent_w) for h in harvests]
     result = simulate(run, dem, StoreArrays.stack(levels * 3), cold_harvest_j=cold, charge_allowed=allow,
-                      always_on=np.repeat([False, False, True], n), min_from=HOURS_PER_YEAR, hourly=True)
+                      leak_scale=scale, always_on=np.repeat([False, False, True], n), min_from=HOURS_PER_YEAR,
+                      hourly=True)
     return result, starts, levels
 
 

@@ -282,6 +282,7 @@ def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store
     rows = np.repeat(np.arange(n_h), n_s)
     steady = simulate(harvest.running_w * SECONDS_PER_HOUR, prep.demand_j, store_arr,
                       cold_harvest_j=harvest.cold_w * SECONDS_PER_HOUR, charge_allowed=prep.charge_allowed,
+                      leak_scale=prep.leak_scale,
                       harvest_rows=rows, steady_year=True)
     dd = steady.dark_days.sum(axis=1).reshape(n_h, n_s)
     # first wake: empty store at the installation hour, one year on
@@ -291,7 +292,8 @@ def sizing_map(prep: Prepared, source_id: str, *, n_harvester: int = 40, n_store
     order = np.r_[start:HOURS_PER_YEAR, 0:start][:FIRST_WAKE_HORIZON_H]
     wake = simulate(harvest.running_w[:, order] * SECONDS_PER_HOUR, prep.demand_j[order], store_arr,
                     cold_harvest_j=harvest.cold_w[:, order] * SECONDS_PER_HOUR,
-                    charge_allowed=prep.charge_allowed[order], harvest_rows=rows, stop_when_on=True)
+                    charge_allowed=prep.charge_allowed[order], leak_scale=prep.leak_scale[order],
+                    harvest_rows=rows, stop_when_on=True)
     fw = first_wake_hours(wake.on).reshape(n_h, n_s)
     meets = dd <= target
     front, pick = frontier_and_pick(meets)
@@ -323,6 +325,7 @@ def _steady_deficit(prep: Prepared, harvest: Harvest, demand_j: np.ndarray) -> i
                       quiescent_w=harvest.quiescent_w)
     res = simulate(harvest.running_w[None, :] * SECONDS_PER_HOUR, demand_j, StoreArrays.stack([lv]),
                    cold_harvest_j=harvest.cold_w[None, :] * SECONDS_PER_HOUR, charge_allowed=prep.charge_allowed,
+                   leak_scale=prep.leak_scale,
                    steady_year=True)
     return int(res.dark_days.sum())
 
@@ -493,6 +496,7 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
         hours, down_c = hours_from_days(day_map[rows]), down[rows]
         n = hours.shape[0]
         allowed = prep.charge_allowed[hours]
+        scale = prep.leak_scale[hours]
         per_source_run, per_source_cold = [], []
         for h in prep.harvests:
             run, cold = h.running_w[hours], h.cold_w[hours]
@@ -504,7 +508,8 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
         cases.append((both, np.sum(per_source_run, axis=0), np.sum(per_source_cold, axis=0)))
         for h, run, cold in cases:
             res = simulate(run * SECONDS_PER_HOUR, prep.demand_j, StoreArrays.stack([levels[h.id]] * n),
-                           cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, steady_year=True)
+                           cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, leak_scale=scale,
+                           steady_year=True)
             chunks[h.id].append(res.dark_days.sum(axis=1))
     results = {k: np.concatenate(v) for k, v in chunks.items()}
     return WeatherRisk(years, seed, results, day_map)
