@@ -14,9 +14,11 @@ frequency ratio. Then:
    variation); a spectrum line of a CSV survey also spreads uniformly over its bin width. Power is
    averaged over the spread (the drift is slow against the harvester's response, so every quantity
    is computed at each drift position and then averaged).
-2. Travel limit: the proof mass moves by the RMS-equivalent amplitude z = sqrt(sum |z_i|^2) (exact
-   for one tone). Where z would exceed the travel limit at any drift position, the electrical
-   damping is raised until it does not (Mitcheson et al. 2004). For one tone at resonance this gives
+2. Travel limit: the proof mass's peak travel is estimated by :func:`peak_travel_m`, the smaller of
+   the sum of the components' amplitudes (the peak of tones whose frequencies are not in simple
+   ratios) and three times the RMS (a near-Gaussian broadband motion). Where it would exceed the
+   travel limit at any drift position, the electrical damping is raised until it does not
+   (Mitcheson et al. 2004). For one tone at resonance this gives
    P = m zeta_e omega^3 Z_l^2, which tends to 1/2 m Y0 Z_l omega^3 as zeta_m -> 0.
 3. Rectifier: the transducer's peak open-circuit voltage V_oc is proportional to the proof-mass
    displacement (piezo) or velocity (electromagnetic coil EMF), scaled from the stated open-circuit
@@ -77,6 +79,7 @@ from .base import PowerLevel, SourceBase, SourceOutput
 
 TWO_PI = 2.0 * math.pi
 SQRT2 = math.sqrt(2.0)
+PEAK_FACTOR = 3.0  # peak over RMS of near-Gaussian random vibration (common practice: 3 sigma)
 
 
 def _iso_velocity_to_accel_rms(velocity_mm_s: float, freq_hz: float) -> float:
@@ -514,10 +517,10 @@ def _grid_sizes(exc: Excitation, h: Harvester) -> tuple[int, int]:
 
 
 def _component_sums(exc: Excitation, h: Harvester, zeta_e: float, sel: np.ndarray, u: np.ndarray,
-                    s: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+                    s: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Sums over the selected components, per drift position ``u``, of the bin-averaged linear power [W],
-    mean-square displacement [m2] and mean-square velocity [m2/s2]."""
-    power, z2, v2 = np.zeros(u.size), np.zeros(u.size), np.zeros(u.size)
+    squared displacement amplitude [m2], squared velocity amplitude [m2/s2] and displacement amplitude [m]."""
+    power, z2, v2, z1 = np.zeros(u.size), np.zeros(u.size), np.zeros(u.size), np.zeros(u.size)
     idx = np.flatnonzero(sel)
     step = max(1, _MAX_CELLS // (u.size * s.size))
     for start in range(0, idx.size, step):
@@ -531,12 +534,31 @@ def _component_sums(exc: Excitation, h: Harvester, zeta_e: float, sel: np.ndarra
         z = displacement_m(a_pk, f, h.resonant_hz, h.zeta_m + zeta_e)
         z2 += (z * z).mean(axis=2).sum(axis=0)
         v2 += ((TWO_PI * f * z) ** 2).mean(axis=2).sum(axis=0)
-    return power, z2, v2
+        z1 += z.mean(axis=2).sum(axis=0)
+    return power, z2, v2, z1
+
+
+def peak_travel_m(z2_m2: np.ndarray, z1_m: np.ndarray) -> np.ndarray:
+    """Peak proof-mass travel of several sinusoidal components [m].
+
+    Method: the sum of the components' amplitudes is the peak their sum reaches (exactly, over time,
+    for frequencies that are not in simple ratios); for many components of random phase the motion is
+    near Gaussian and its peak is ``PEAK_FACTOR`` times its RMS, sqrt(sum of squared amplitudes / 2).
+    The estimate is the smaller of the two: one tone gives its amplitude, two equal tones twice it, a
+    broad survey spectrum three times its RMS.
+
+    Parameters
+    ----------
+    z2_m2 : sum of squared displacement amplitudes [m2].
+    z1_m : sum of displacement amplitudes [m].
+    """
+    return np.minimum(np.asarray(z1_m), PEAK_FACTOR * np.sqrt(np.asarray(z2_m2) / 2.0))
 
 
 def _sums(exc: Excitation, h: Harvester, zeta_e: float, n_u: int, n_s: int
-          ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Per drift position: linear power [W], sum of mean-square displacement [m2], of velocity [m2/s2].
+          ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Per drift position: linear power [W], sums of squared displacement [m2] and velocity [m2/s2]
+    amplitudes, and the sum of displacement amplitudes [m].
 
     Components far from resonance (beyond 20 bandwidths plus 8 times their spread), where the response is
     smooth, are evaluated at their centre frequency only: the spread changes their small share by ~1 %.
@@ -570,19 +592,20 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
     RunningPoint
     """
     n_u, n_s = _grid_sizes(exc, h)
-    _, z2, _ = _sums(exc, h, h.zeta_e, n_u, n_s)
-    free_travel = math.sqrt(float(z2.max()))
+    _, z2, _, z1 = _sums(exc, h, h.zeta_e, n_u, n_s)
+    free_travel = float(peak_travel_m(z2, z1).max())
     zeta_e = h.zeta_e
     limited = free_travel > h.travel_limit_m
     if limited:
         def excess(ze: float) -> float:
-            return math.sqrt(float(_sums(exc, h, ze, n_u, n_s)[1].max())) / h.travel_limit_m - 1.0
+            _, z2_e, _, z1_e = _sums(exc, h, ze, n_u, n_s)
+            return float(peak_travel_m(z2_e, z1_e).max()) / h.travel_limit_m - 1.0
 
         hi = max(2.0 * h.zeta_e, 1e-3)
         while excess(hi) > 0:
             hi *= 4.0
         zeta_e = brentq(excess, h.zeta_e, hi, xtol=1e-12, rtol=1e-10)
-    power, z2, v2 = _sums(exc, h, zeta_e, n_u, n_s)
+    power, z2, v2, z1 = _sums(exc, h, zeta_e, n_u, n_s)
 
     wn = TWO_PI * h.resonant_hz
     if h.transducer == "electromagnetic":
@@ -599,7 +622,7 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
         dc_v=float(dc_v[conducting].mean()) if conducting.any() else 0.0,
         open_circuit_v=float(v_oc.mean()),
         zeta_e=float(zeta_e),
-        travel_m=math.sqrt(float(z2.max())),
+        travel_m=float(peak_travel_m(z2, z1).max()),
         free_travel_m=free_travel,
         travel_limited=bool(limited),
         starved_share=float(np.mean(v_oc <= 2.0 * h.diode_drop_v + h.min_input_v)),
@@ -766,6 +789,7 @@ __all__ = [
     "displacement_m",
     "half_power_bandwidth_hz",
     "optimum_power_w",
+    "peak_travel_m",
     "quality_factor",
     "rectified_power_w",
     "resonant_power_w",
