@@ -381,6 +381,12 @@ class VibrationSource(SourceBase):
     transduction_v_s_per_m: float | None = quantity(None, "V s/m", "electromagnetic only: coil EMF per m/s "
                                                     "of relative velocity (B l); overrides "
                                                     "open_circuit_v_per_m_s2", gt=0, le=10000)
+    coil_resistance_ohm: float | None = quantity(None, "ohm", "electromagnetic only: resistance of the coil; "
+                                                 "with transduction_v_s_per_m it sets the electrical damping "
+                                                 "and the share of its power lost in the coil", gt=0, le=1e6)
+    load_resistance_ohm: float | None = quantity(None, "ohm", "electromagnetic only: the load the coil works "
+                                                 "into (default: the best one, R_coil + (B l)^2 / c_m)", gt=0,
+                                                 le=1e7)
     diode_drop_v: float = quantity(0.3, "V", "forward drop of one rectifier diode (Schottky 0.2-0.4, "
                                    "silicon 0.6-0.7)", ge=0, le=2, step=0.05)
     reservoir_v: float | Literal["tracked"] = Field("tracked", description="DC reservoir voltage after the "
@@ -439,6 +445,14 @@ class VibrationSource(SourceBase):
                 raise ValueError("spectrum_measure: a PSD is a mean-square density; leave it out")
         if self.transduction_v_s_per_m is not None and self.transducer != "electromagnetic":
             raise ValueError("transduction_v_s_per_m applies to transducer = 'electromagnetic' only")
+        if self.coil_resistance_ohm is not None or self.load_resistance_ohm is not None:
+            if self.transducer != "electromagnetic" or self.transduction_v_s_per_m is None:
+                raise ValueError("coil_resistance_ohm and load_resistance_ohm need transducer = "
+                                 "'electromagnetic' and its transduction_v_s_per_m")
+            if self.coil_resistance_ohm is None:
+                raise ValueError("load_resistance_ohm needs coil_resistance_ohm")
+            if self.electrical_damping_ratio is not None:
+                raise ValueError("give electrical_damping_ratio or the coil and load resistances, not both")
         return self
 
 
@@ -474,16 +488,25 @@ class Harvester:
     diode_drop_v: float = 0.3
     min_input_v: float = 0.0
     reservoir_v: float | None = None
+    zeta_e_max: float = math.inf  # electrical damping with the load shorted (coil resistance alone)
+
+    def load_share(self, zeta_e: float) -> float:
+        """Share of the electrical damping power that reaches the load, R_L / (R_coil + R_L) [-].
+
+        The electrical damping is (B l)^2 / (R_coil + R_L) over 2 m omega_n, so the share is
+        1 - zeta_e / zeta_e_max; 1 without coil resistance."""
+        return max(0.0, 1.0 - zeta_e / self.zeta_e_max) if math.isfinite(self.zeta_e_max) else 1.0
 
 
 @dataclass(frozen=True)
 class RunningPoint:
     """The harvester's state while the machine runs (averaged over frequency drift).
 
-    Attributes: ``power_w`` DC power after the rectifier [W]; ``linear_power_w`` power into the
-    electrical damping before the rectifier [W]; ``dc_v`` reservoir voltage [V] (0 if never
-    conducting); ``open_circuit_v`` mean peak open-circuit voltage [V]; ``zeta_e`` the electrical
-    damping used [-]; ``travel_m`` the largest RMS-equivalent displacement amplitude [m];
+    Attributes: ``power_w`` DC power after the rectifier [W]; ``linear_power_w`` power the load (the
+    rectifier) receives before rectification [W]; ``damping_power_w`` power into the electrical damping
+    [W] (more than ``linear_power_w`` by what a coil's resistance keeps); ``dc_v`` reservoir voltage [V]
+    (0 if never conducting); ``open_circuit_v`` mean peak open-circuit voltage [V]; ``zeta_e`` the
+    electrical damping used [-]; ``travel_m`` the proof mass's peak travel (:func:`peak_travel_m`) [m];
     ``free_travel_m`` what it would be at the stated damping [m]; ``travel_limited``; ``starved_share``
     share of drift positions where V_oc is below the diode drops plus the converter's least input [-].
     """
@@ -497,6 +520,7 @@ class RunningPoint:
     free_travel_m: float
     travel_limited: bool
     starved_share: float
+    damping_power_w: float = 0.0
 
 
 _MAX_CELLS = 400_000
@@ -602,10 +626,13 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
             return float(peak_travel_m(z2_e, z1_e).max()) / h.travel_limit_m - 1.0
 
         hi = max(2.0 * h.zeta_e, 1e-3)
-        while excess(hi) > 0:
+        while excess(hi) > 0 and hi < h.zeta_e_max:
             hi *= 4.0
-        zeta_e = brentq(excess, h.zeta_e, hi, xtol=1e-12, rtol=1e-10)
-    power, z2, v2, z1 = _sums(exc, h, zeta_e, n_u, n_s)
+        hi = min(hi, h.zeta_e_max)
+        # with coil resistance, damping above the shorted-load ceiling cannot be had: stop there
+        zeta_e = hi if excess(hi) > 0 else brentq(excess, h.zeta_e, hi, xtol=1e-12, rtol=1e-10)
+    damping, z2, v2, z1 = _sums(exc, h, zeta_e, n_u, n_s)
+    power = damping * h.load_share(zeta_e)  # the coil's resistance keeps the rest
 
     wn = TWO_PI * h.resonant_hz
     if h.transducer == "electromagnetic":
@@ -619,6 +646,7 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
     return RunningPoint(
         power_w=float(dc_p.mean()),
         linear_power_w=float(power.mean()),
+        damping_power_w=float(damping.mean()),
         dc_v=float(dc_v[conducting].mean()) if conducting.any() else 0.0,
         open_circuit_v=float(v_oc.mean()),
         zeta_e=float(zeta_e),
@@ -646,14 +674,45 @@ def excitation_of(spec: VibrationSource, ctx: SpotContext) -> Excitation:
     return Excitation(freq, accel, drift, np.zeros(freq.size))
 
 
+def coil_damping(spec: VibrationSource, resonant_hz: float) -> tuple[float, float]:
+    """Electrical damping ratio of an electromagnetic harvester with coil resistance, and its ceiling.
+
+    Method: the coil EMF B l v drives the coil and load resistances in series, so the electrical
+    damping coefficient is c_e = (B l)^2 / (R_coil + R_L) and zeta_e = c_e / (2 m omega_n); the load
+    receives R_L / (R_coil + R_L) of the electrical damping power, the coil's resistance the rest. The
+    default load is the best for the coil, R_L = R_coil + (B l)^2 / c_m with c_m = 2 m omega_n zeta_m
+    (Stephen 2006). The ceiling zeta_e_max is the damping with the load shorted.
+
+    Returns
+    -------
+    (zeta_e, zeta_e_max) : [-]
+
+    References
+    ----------
+    Stephen, N.G. (2006). On energy harvesting from ambient vibration. J. Sound and Vibration 293,
+    409-425.
+    """
+    m_kg = spec.proof_mass_g * 1e-3
+    wn = TWO_PI * resonant_hz
+    bl2 = float(spec.transduction_v_s_per_m) ** 2
+    r_coil = float(spec.coil_resistance_ohm)
+    c_m = 2.0 * m_kg * wn * spec.mechanical_damping_ratio
+    r_load = spec.load_resistance_ohm if spec.load_resistance_ohm is not None else r_coil + bl2 / c_m
+    return bl2 / (r_coil + r_load) / (2.0 * m_kg * wn), bl2 / r_coil / (2.0 * m_kg * wn)
+
+
 def harvester_of(spec: VibrationSource, resonant_hz: float) -> Harvester:
     """The harvester's parameters in SI for a given resonant frequency."""
+    zeta_e, zeta_e_max = (spec.electrical_damping_ratio if spec.electrical_damping_ratio is not None
+                          else spec.mechanical_damping_ratio), math.inf
+    if spec.coil_resistance_ohm is not None:
+        zeta_e, zeta_e_max = coil_damping(spec, resonant_hz)
     return Harvester(
         mass_kg=spec.proof_mass_g * 1e-3,
         resonant_hz=resonant_hz,
         zeta_m=spec.mechanical_damping_ratio,
-        zeta_e=(spec.electrical_damping_ratio if spec.electrical_damping_ratio is not None
-                else spec.mechanical_damping_ratio),
+        zeta_e=zeta_e,
+        zeta_e_max=zeta_e_max,
         travel_limit_m=spec.travel_limit_mm * 1e-3,
         transducer=spec.transducer,
         open_circuit_v_per_m_s2=spec.open_circuit_v_per_m_s2,
@@ -737,6 +796,9 @@ def vibration_output(spec: VibrationSource, ctx: SpotContext) -> SourceOutput:
         resonant_hz = float(spec.resonant_frequency_hz)
     h = harvester_of(spec, resonant_hz)
     point = running_point(exc, h)
+    if math.isfinite(h.zeta_e_max):
+        notes.append(f"The coil keeps {1 - h.load_share(point.zeta_e):.0%} of the electrical power "
+                     f"(R_coil {spec.coil_resistance_ohm:g} ohm); the load receives the rest.")
 
     if point.travel_limited:
         notes.append(f"The proof mass would travel {point.free_travel_m * 1e3:.3g} mm against its "
