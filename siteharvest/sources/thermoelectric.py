@@ -133,7 +133,22 @@ class HeatSink(Section):
     emissivity: float = quantity(0.85, "-", "surface emissivity (anodised 0.8-0.9, bare aluminium "
                                  "0.05-0.1)", ge=0, le=1, step=0.01)
     convection_w_m2k: float | None = quantity(None, "W/m2K", "convective coefficient; left out: "
-                                              "natural convection on a vertical plate", gt=0, le=1000)
+                                              "natural convection on a vertical plate, with the wind "
+                                              "outdoors", gt=0, le=1000)
+    width_mm: float = quantity(50.0, "mm", "width of the sink's base across the fins", gt=0, le=2000, step=1)
+    fin_length_mm: float = quantity(25.0, "mm", "how far the fins stand off the base", ge=0, le=500, step=1)
+    fin_thickness_mm: float = quantity(1.5, "mm", "thickness of one fin", gt=0, le=50, step=0.1)
+    fin_conductivity_w_mk: float = quantity(200.0, "W/mK", "thermal conductivity of the fin metal "
+                                            "(aluminium alloys 150-220, copper 390)", gt=0, le=2000)
+    fin_area_share: float = quantity(0.85, "-", "share of the wetted area that is fin (the rest is base)",
+                                     ge=0, le=1, step=0.01)
+
+    @property
+    def envelope_area_cm2(self) -> float:
+        """Outer faces of the sink's envelope (front, two sides, top and bottom) [cm2]: the area that
+        radiates to the surroundings (fins facing each other exchange radiation among themselves)."""
+        w, hgt, fin = self.width_mm, self.height_mm, self.fin_length_mm
+        return (w * hgt + 2.0 * fin * hgt + 2.0 * w * fin) / 100.0
 
 
 class ThermoelectricSource(SourceBase):
@@ -463,6 +478,56 @@ def vertical_plate_convection_w_m2k(delta_t_k: Any, height_m: Any, air_temp_c: A
     return nusselt * k / height
 
 
+def forced_plate_convection_w_m2k(wind_m_s: Any, length_m: Any, air_temp_c: Any,
+                                  pressure_pa: Any = 101325.0) -> np.ndarray:
+    """Forced-convection coefficient of a flat plate in a parallel air stream (mean over its length).
+
+    Method: laminar boundary layer, ``Nu_L = 0.664 Re_L**0.5 Pr**(1/3)`` (Re_L below about 5e5, which
+    a sink tens of mm long in wind up to ~30 m/s stays within); air properties at air temperature.
+
+    Parameters
+    ----------
+    wind_m_s : float or array [m/s]   air speed past the sink (>= 0).
+    length_m : float or array [m]     plate length along the flow, > 0.
+    air_temp_c : float or array [degC]
+    pressure_pa : float or array [Pa]
+
+    Returns
+    -------
+    ndarray [W/(m2 K)]
+
+    References
+    ----------
+    Incropera, F.P. and DeWitt, D.P. Fundamentals of Heat and Mass Transfer, eq. 7.30.
+    """
+    k, nu, pr = air_properties(np.asarray(air_temp_c, dtype=float) + KELVIN, pressure_pa)
+    length = np.asarray(length_m, dtype=float)
+    reynolds = np.maximum(np.asarray(wind_m_s, dtype=float), 0.0) * length / nu
+    return 0.664 * np.sqrt(reynolds) * pr ** (1.0 / 3.0) * k / length
+
+
+def fin_efficiency(h_w_m2k: Any, fin_length_m: Any, thickness_m: Any, conductivity_w_mk: Any) -> np.ndarray:
+    """Efficiency of a straight rectangular fin with an adiabatic tip [-].
+
+    Method: ``eta = tanh(m L) / (m L)``, ``m = sqrt(2 h / (k t))``; 1 for a fin of no length.
+
+    Parameters
+    ----------
+    h_w_m2k : convective coefficient on the fin [W/(m2 K)].
+    fin_length_m : how far the fin stands off the base [m].
+    thickness_m : fin thickness [m].
+    conductivity_w_mk : fin metal's conductivity [W/(m K)].
+
+    References
+    ----------
+    Incropera, F.P. and DeWitt, D.P. Fundamentals of Heat and Mass Transfer, eq. 3.89 and Table 3.5.
+    """
+    ml = np.sqrt(2.0 * np.asarray(h_w_m2k, dtype=float) / (np.asarray(conductivity_w_mk, dtype=float)
+                                                            * np.asarray(thickness_m, dtype=float)))
+    ml = ml * np.asarray(fin_length_m, dtype=float)
+    return np.where(ml > 1e-9, np.tanh(ml) / np.where(ml > 1e-9, ml, 1.0), 1.0)
+
+
 def radiation_w_m2k(emissivity: Any, surface_temp_k: Any, surroundings_temp_k: Any) -> np.ndarray:
     """Linearised radiative coefficient of a small grey surface in large surroundings.
 
@@ -490,13 +555,17 @@ def radiation_w_m2k(emissivity: Any, surface_temp_k: Any, surroundings_temp_k: A
 
 def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_before_sink_k_w: Any,
                           sink: HeatSink, pressure_pa: float = 101325.0, iterations: int = 40,
-                          ) -> tuple[np.ndarray, np.ndarray]:
+                          wind_m_s: Any = None) -> tuple[np.ndarray, np.ndarray]:
     """Heat-sink resistance and heat flow of the series network surface -> module -> sink -> air.
 
-    Method: with a given sink resistance the network is linear. Otherwise the sink's coefficient
-    ``h = h_conv(dT_sink) + h_rad`` (:func:`vertical_plate_convection_w_m2k`,
-    :func:`radiation_w_m2k`) depends on the sink's own temperature rise, found by damped fixed-point
-    iteration (``h`` grows like ``dT**0.25``, so it converges in a few tens of steps).
+    Method: with a given sink resistance the network is linear. Otherwise the sink's conductance is
+    ``h_conv eta_o A + h_rad A_env``: convection over the wetted area ``A`` at the overall surface
+    efficiency ``eta_o = 1 - share_fin (1 - eta_fin)`` (:func:`fin_efficiency`), radiation from the
+    envelope ``A_env`` only (:attr:`HeatSink.envelope_area_cm2`). ``h_conv`` is natural convection on
+    a vertical plate (:func:`vertical_plate_convection_w_m2k`) and, given a wind speed (outdoors),
+    forced convection (:func:`forced_plate_convection_w_m2k`) combined as
+    ``(h_nat**3 + h_forced**3)**(1/3)``. It depends on the sink's own temperature rise, found by
+    damped fixed-point iteration (``h`` grows like ``dT**0.25``; a few tens of steps).
 
     Parameters
     ----------
@@ -506,6 +575,7 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
     sink : HeatSink
     pressure_pa : float [Pa]
     iterations : int
+    wind_m_s : array [m/s] or None   wind past the sink (outdoors); None: still air.
 
     Returns
     -------
@@ -513,7 +583,8 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
 
     References
     ----------
-    Churchill & Chu (1975); Incropera & DeWitt, Fundamentals of Heat and Mass Transfer, ch. 3 and 9.
+    Churchill & Chu (1975); Incropera & DeWitt, Fundamentals of Heat and Mass Transfer, ch. 3, 7 and 9
+    (the cube rule for mixed convection, eq. 9.64).
     """
     dt_total = np.asarray(delta_t_total_k, dtype=float)
     r_before = np.broadcast_to(np.asarray(resistance_before_sink_k_w, dtype=float), dt_total.shape)
@@ -522,15 +593,24 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
         r_sink = np.full(dt_total.shape, float(sink.resistance_k_w))
         return r_sink, dt_total / (r_before + r_sink)
     area_m2 = sink.area_cm2 * 1e-4
+    envelope_m2 = min(sink.envelope_area_cm2, sink.area_cm2) * 1e-4
     height_m = sink.height_mm * 1e-3
+    forced = (None if wind_m_s is None or sink.convection_w_m2k is not None
+              else forced_plate_convection_w_m2k(np.broadcast_to(np.asarray(wind_m_s, dtype=float), dt_total.shape),
+                                                 height_m, air_c, pressure_pa))
 
     def sink_resistance(dt_sink: np.ndarray) -> np.ndarray:
         if sink.convection_w_m2k is not None:
             h_conv = np.full(dt_sink.shape, float(sink.convection_w_m2k))
         else:
             h_conv = vertical_plate_convection_w_m2k(dt_sink, height_m, air_c, pressure_pa)
+            if forced is not None:
+                h_conv = np.cbrt(h_conv**3 + forced**3)
+        eta_fin = fin_efficiency(h_conv, sink.fin_length_mm * 1e-3, sink.fin_thickness_mm * 1e-3,
+                                 sink.fin_conductivity_w_mk)
+        eta_o = 1.0 - sink.fin_area_share * (1.0 - eta_fin)
         h_rad = radiation_w_m2k(sink.emissivity, air_c + KELVIN + dt_sink, air_c + KELVIN)
-        return 1.0 / (area_m2 * (h_conv + h_rad))
+        return 1.0 / (area_m2 * eta_o * h_conv + envelope_m2 * h_rad)
 
     dt_sink = 0.5 * dt_total
     for _ in range(iterations):
@@ -693,7 +773,8 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         r_module = effective_module_resistance_k_w(spec.module_thermal_resistance_k_w, zt)
     r_before = spec.hot_contact_resistance_k_w + r_module + spec.cold_contact_resistance_k_w
     pressure = float(pvlib.atmosphere.alt2pres(ctx.altitude_m))
-    r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure)
+    wind = None if ctx.indoors else ctx.weather["wind_speed_m_s"].to_numpy(dtype=float)
+    r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure, wind_m_s=wind)
     dt_module = module_delta_t_k(dt_total, r_module,
                                  spec.hot_contact_resistance_k_w + spec.cold_contact_resistance_k_w + r_sink)
     power_w = spec.modules * matched_load_power_w(spec.seebeck_v_k, dt_module, spec.resistance_ohm)
