@@ -142,6 +142,9 @@ class HeatSink(Section):
                                             "(aluminium alloys 150-220, copper 390)", gt=0, le=2000)
     fin_area_share: float = quantity(0.85, "-", "share of the wetted area that is fin (the rest is base)",
                                      ge=0, le=1, step=0.01)
+    wind_exposure: float = quantity(0.3, "-", "outdoors: share of the weather year's wind speed (a 10 m "
+                                    "station figure) that reaches the sink; near a wall or in shelter the "
+                                    "air moves far slower (common practice 0.2-0.5)", ge=0, le=1, step=0.05)
 
     @property
     def envelope_area_cm2(self) -> float:
@@ -773,7 +776,8 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         r_module = effective_module_resistance_k_w(spec.module_thermal_resistance_k_w, zt)
     r_before = spec.hot_contact_resistance_k_w + r_module + spec.cold_contact_resistance_k_w
     pressure = float(pvlib.atmosphere.alt2pres(ctx.altitude_m))
-    wind = None if ctx.indoors else ctx.weather["wind_speed_m_s"].to_numpy(dtype=float)
+    wind = (None if ctx.indoors
+            else spec.heat_sink.wind_exposure * ctx.weather["wind_speed_m_s"].to_numpy(dtype=float))
     r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure, wind_m_s=wind)
     dt_module = module_delta_t_k(dt_total, r_module,
                                  spec.hot_contact_resistance_k_w + spec.cold_contact_resistance_k_w + r_sink)
