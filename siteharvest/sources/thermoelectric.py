@@ -47,7 +47,7 @@ from typing import Annotated, Any, ClassVar, Literal
 import numpy as np
 import pandas as pd
 import pvlib
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
@@ -154,6 +154,35 @@ class HeatSink(Section):
         return (w * hgt + 2.0 * fin * hgt + 2.0 * w * fin) / 100.0
 
 
+class PipeWall(Section):
+    """The pipe between a process fluid and the module: the hot side's temperatures are then the fluid's.
+
+    The heat crosses the fluid's film, the pipe wall and any insulation left under the module, in series,
+    through the module's footprint (a thin-wall, flat approximation: good while the footprint is small
+    against the pipe's circumference and the wall thin against its radius).
+    """
+
+    film_w_m2k: float = quantity(1000.0, "W/m2K", "fluid-side film coefficient (water in turbulent flow "
+                                 "1000-10000, condensing steam 5000 and up, oils 100-1000, gases 10-100)",
+                                 gt=0, le=1e5)
+    wall_mm: float = quantity(3.0, "mm", "pipe wall thickness", ge=0, le=100, step=0.1)
+    wall_conductivity_w_mk: float = quantity(50.0, "W/mK", "pipe wall metal (carbon steel ~50, stainless "
+                                             "~16, copper ~390)", gt=0, le=2000)
+    lagging_mm: float = quantity(0.0, "mm", "insulation left between the pipe and the module (0: a bare "
+                                 "patch under the module)", ge=0, le=300, step=1)
+    lagging_conductivity_w_mk: float = quantity(0.04, "W/mK", "conductivity of that insulation (mineral "
+                                                "wool 0.035-0.05)", gt=0, le=10)
+
+    def resistance_k_w(self, footprint_m2: float) -> float:
+        """Fluid-to-surface thermal resistance under one module [K/W]: (1/h + t_w/k_w + t_l/k_l) / A.
+
+        References: Incropera, F.P. and DeWitt, D.P. Fundamentals of Heat and Mass Transfer, ch. 3
+        (series conduction and convection resistances)."""
+        per_area = (1.0 / self.film_w_m2k + self.wall_mm * 1e-3 / self.wall_conductivity_w_mk
+                    + self.lagging_mm * 1e-3 / self.lagging_conductivity_w_mk)
+        return per_area / footprint_m2
+
+
 class ThermoelectricSource(SourceBase):
     """A thermoelectric generator: modules on a hot surface with a heat sink in the air.
 
@@ -179,7 +208,15 @@ class ThermoelectricSource(SourceBase):
     wiring: Literal["series", "parallel"] = Field("series", description="electrical connection of the "
                                                   "modules: 'series' adds voltages, 'parallel' currents")
     hot_side: HotSide = Field(default_factory=ConstantHotSide, description="hot-surface temperature: "
-                              "constant, process schedule or hourly file")
+                              "constant, process schedule or hourly file (the fluid's when pipe is given)")
+    pipe: PipeWall | None = Field(None, description="the pipe wall between a process fluid and the module: "
+                                  "give it to state the fluid's temperature in hot_side instead of the "
+                                  "pipe surface's")
+    power_curve: list[tuple[float, float]] | None = Field(
+        None, min_length=2, max_length=50,
+        description="measured matched-load power of one module against the temperature difference "
+                    "across its faces: pairs (delta T [K], power [mW]); replaces the Seebeck-coefficient "
+                    "law for the power (it goes as delta T squared beyond the curve's ends)")
     cold_side_offset_c: float = quantity(0.0, "K", "air around the heat sink, above the spot's air "
                                          "temperature", ge=-50, le=100, step=0.5)
     hot_contact_resistance_k_w: float = quantity(0.5, "K/W", "surface-to-module contact resistance "
@@ -209,6 +246,18 @@ class ThermoelectricSource(SourceBase):
             mode = "file" if "file" in hot else "schedule" if "process_on_c" in hot else "constant"
             merged["hot_side"] = {"mode": mode, **hot}
         return merged
+
+    @field_validator("power_curve")
+    @classmethod
+    def _curve(cls, curve: list[tuple[float, float]] | None) -> list[tuple[float, float]] | None:
+        if curve is None:
+            return curve
+        dts = [p[0] for p in curve]
+        if any(not (0 < dt <= 1000) for dt in dts) or len(set(dts)) != len(dts):
+            raise ValueError("power_curve temperature differences must be distinct, from above 0 to 1000 K")
+        if any(not (0 <= p[1] <= 1e6) for p in curve):
+            raise ValueError("power_curve powers must lie from 0 to 1e6 mW")
+        return sorted(curve)
 
 
 # --------------------------------------------------------------------------------------------
@@ -248,6 +297,24 @@ def matched_load_power_w(seebeck_v_k: Any, delta_t_k: Any, resistance_ohm: Any) 
     alpha = np.asarray(seebeck_v_k, dtype=float)
     dt = np.asarray(delta_t_k, dtype=float)
     return (alpha * dt) ** 2 / (4.0 * np.asarray(resistance_ohm, dtype=float))
+
+
+def curve_power_w(power_curve: list[tuple[float, float]], delta_t_k: Any) -> np.ndarray:
+    """Matched-load power of one module from a measured curve of power against its delta T [W].
+
+    Method: the measured power over delta T squared (a constant for an ideal module) is interpolated
+    linearly in delta T and held at the curve's ends, then multiplied by delta T squared: exact at
+    the measured points, and the ideal module's square law beyond them.
+
+    Parameters
+    ----------
+    power_curve : pairs (delta T [K], power [mW]), delta T ascending.
+    delta_t_k : float or array [K]  temperature difference across the module's faces (sign ignored).
+    """
+    table = np.asarray(power_curve, dtype=float)
+    ratio_w_k2 = table[:, 1] * 1e-3 / table[:, 0] ** 2
+    dt = np.abs(np.asarray(delta_t_k, dtype=float))
+    return np.interp(dt, table[:, 0], ratio_w_k2) * dt**2
 
 
 def matched_load_voltage_v(seebeck_v_k: Any, delta_t_k: Any, series_modules: int = 1) -> np.ndarray:
@@ -774,14 +841,19 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         zt = figure_of_merit_zt(spec.seebeck_v_k, spec.resistance_ohm, spec.module_thermal_resistance_k_w,
                                 mean_k)
         r_module = effective_module_resistance_k_w(spec.module_thermal_resistance_k_w, zt)
-    r_before = spec.hot_contact_resistance_k_w + r_module + spec.cold_contact_resistance_k_w
+    footprint_m2 = (spec.module_side_mm * 1e-3) ** 2
+    r_pipe = spec.pipe.resistance_k_w(footprint_m2) if spec.pipe is not None else 0.0
+    r_hot = spec.hot_contact_resistance_k_w + r_pipe
+    r_before = r_hot + r_module + spec.cold_contact_resistance_k_w
     pressure = float(pvlib.atmosphere.alt2pres(ctx.altitude_m))
     wind = (None if ctx.indoors
             else spec.heat_sink.wind_exposure * ctx.weather["wind_speed_m_s"].to_numpy(dtype=float))
     r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure, wind_m_s=wind)
-    dt_module = module_delta_t_k(dt_total, r_module,
-                                 spec.hot_contact_resistance_k_w + spec.cold_contact_resistance_k_w + r_sink)
-    power_w = spec.modules * matched_load_power_w(spec.seebeck_v_k, dt_module, spec.resistance_ohm)
+    dt_module = module_delta_t_k(dt_total, r_module, r_hot + spec.cold_contact_resistance_k_w + r_sink)
+    if spec.power_curve is not None:
+        power_w = spec.modules * curve_power_w(spec.power_curve, dt_module)
+    else:
+        power_w = spec.modules * matched_load_power_w(spec.seebeck_v_k, dt_module, spec.resistance_ohm)
     in_series = spec.modules if spec.wiring == "series" else 1
     voltage_v = matched_load_voltage_v(spec.seebeck_v_k, dt_module, in_series)
 
@@ -817,6 +889,7 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         voltage_v=voltage_v,
         details={
             "hot_side_c": hot_c,
+            "pipe_surface_c": hot_c - heat_w * r_pipe,
             "cold_air_c": cold_c,
             "delta_t_total_k": dt_total,
             "delta_t_module_k": dt_module,
