@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from .cautions import Caution, cautions_for
-from .conditioning import condition
+from .conditioning import condition_levels
 from .context import SpotContext
 from .demand import demand_energy_j, mean_power_w
 from .errors import SiteInputError
@@ -40,6 +40,7 @@ from .store import (
     backup_life_years,
     charge_allowed,
     esr_sag_warning,
+    leakage_temperature_factor,
     store_levels,
 )
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, hour_of_date
@@ -73,6 +74,7 @@ class Prepared:
     demand_j: np.ndarray
     harvests: list[Harvest]
     charge_allowed: np.ndarray
+    leak_scale: np.ndarray  # hourly factor on the store's leakage (its temperature) [-]
 
 
 @dataclass
@@ -116,7 +118,17 @@ class CaseResult:
             "lowest_soc_pct": round(self.lowest_soc_pct, 3),
             "autonomy_days": _finite(self.autonomy_days),
             "backup_life_years": _finite(self.backup_life_years),
+            **self._terminal_json(),
         }
+
+    def _terminal_json(self) -> dict[str, Any]:
+        """Energy at the transducer's terminals, before conditioning and before a full store spills [Wh]
+        (what a meter on the harvester would read); None for the combined case (see Assessment.to_json)."""
+        if self.terminal is None:
+            return {"terminal_energy_wh": None, "monthly_terminal_energy_wh": None}
+        terminal_w = np.asarray(self.terminal.power_w, dtype=float)
+        return {"terminal_energy_wh": round(float(terminal_w.sum()), 6),
+                "monthly_terminal_energy_wh": [round(float(v), 6) for v in monthly_energy_wh(terminal_w)]}
 
 
 def _finite(x: float) -> float | None:
@@ -157,7 +169,7 @@ class Assessment:
             "demand": {"mean_power_uw": round(self.mean_power_uw, 6),
                        "annual_energy_wh": round(annual_demand_wh(self.prepared.demand_j), 6)},
             "sources": [c.to_json() for c in self.sources],
-            "combined": self.combined.to_json(),
+            "combined": {**self.combined.to_json(), **self._combined_terminal_json()},
             "store": {"usable_energy_j": round(self.usable_energy_j, 6)},
             "backup": {"cell": self.backup.cell, "assumed": self.backup_is_assumed,
                        "life_without_harvest_years": _finite(self.backup_only_life_years)},
@@ -165,11 +177,19 @@ class Assessment:
             "cautions": [c.title for c in self.cautions],
         }
 
+    def _combined_terminal_json(self) -> dict[str, Any]:
+        terminal_w = sum((np.asarray(c.terminal.power_w, dtype=float) for c in self.sources
+                          if c.terminal is not None), np.zeros(HOURS_PER_YEAR))
+        return {"terminal_energy_wh": round(float(terminal_w.sum()), 6),
+                "monthly_terminal_energy_wh": [round(float(v), 6) for v in monthly_energy_wh(terminal_w)]}
+
     def hourly_frame(self) -> pd.DataFrame:
         """Hourly series of the steady-state year: demand, and per case power in, stored energy, state."""
         index = self.prepared.context.index
         cols: dict[str, np.ndarray] = {"demand_w": self.prepared.demand_j / SECONDS_PER_HOUR}
         for case in self.cases:
+            if case.terminal is not None:
+                cols[f"{case.id}.terminal_w"] = np.asarray(case.terminal.power_w, dtype=float)
             cols[f"{case.id}.into_store_w"] = case.into_store_w
             cols[f"{case.id}.stored_energy_j"] = case.stored_energy_j
             cols[f"{case.id}.node_on"] = case.node_on.astype(int)
@@ -209,11 +229,12 @@ def prepare(spec: SiteSpec, context: tuple[SpotContext, WeatherMeta] | None = No
             out = source_output(src, ctx)
         except SiteInputError as exc:
             raise spec.files.explained(exc) from None
-        cond = condition(src.conditioning, out.power_w, out.voltage_v, store_v)
+        cond = condition_levels(src.conditioning, out.power_levels(), store_v)
         harvests.append(Harvest(src.id, src.kind, src.label or src.id, cond.running_w, cond.cold_w,
                                 cond.quiescent_w, src.conditioning.cold_start_until_v, out))
     allowed = charge_allowed(spec.store, ctx.air_temp_c)
-    return Prepared(spec, ctx, meta, demand_energy_j(spec.node), harvests, allowed)
+    return Prepared(spec, ctx, meta, demand_energy_j(spec.node), harvests, allowed,
+                    leakage_temperature_factor(spec.store, ctx.air_temp_c))
 
 
 def combine(harvests: list[Harvest]) -> Harvest:
@@ -253,10 +274,13 @@ def run_cases(prep: Prepared, harvests: list[Harvest]) -> tuple[KernelResult, li
     allow = np.array([np.tile(prep.charge_allowed, 2)] * n
                      + [_two_years(prep.charge_allowed, s) for s in starts]
                      + [np.tile(prep.charge_allowed, 2)] * n)
+    scale = np.array([np.tile(prep.leak_scale, 2)] * n + [_two_years(prep.leak_scale, s) for s in starts]
+                     + [np.tile(prep.leak_scale, 2)] * n)
     levels = [store_levels(prep.spec.store, cold_start_until_v=h.cold_start_until_v,
                            quiescent_w=h.quiescent_w) for h in harvests]
     result = simulate(run, dem, StoreArrays.stack(levels * 3), cold_harvest_j=cold, charge_allowed=allow,
-                      always_on=np.repeat([False, False, True], n), min_from=HOURS_PER_YEAR, hourly=True)
+                      leak_scale=scale, always_on=np.repeat([False, False, True], n), min_from=HOURS_PER_YEAR,
+                      hourly=True)
     return result, starts, levels
 
 
@@ -318,11 +342,40 @@ def _warnings(prep: Prepared) -> list[str]:
     for h in prep.harvests:
         if h.terminal is not None:
             warnings.extend(f"{h.id}: {note}" for note in h.terminal.notes)
+    warnings.extend(within_hour_notes(prep, spec.store.usable_energy_j))
     sag = esr_sag_warning(spec.store, spec.node.largest_task_current_ma, spec.node.supply_v,
                           spec.node.regulator_efficiency, spec.node.regulator_min_input_v)
     if sag:
         warnings.append(sag)
     return warnings
+
+
+def within_hour_notes(prep: Prepared, usable_j: float) -> list[str]:
+    """Where the hourly model's assumption may fail: a source that delivers for only part of each hour.
+
+    The simulation steps by the hour: a source on for a share of an hour adds that share of its
+    power, and the store is assumed to carry the node through the rest of the hour. That holds while
+    the store's usable energy exceeds what the node draws in the part of an hour the source is off;
+    when it does not, a node on that store alone can go dark inside such hours although the hourly
+    balance looks fine. Returns one note per source where that is so.
+    """
+    notes: list[str] = []
+    for h in prep.harvests:
+        out = h.terminal
+        if out is None or out.levels is None:
+            continue
+        delivering = sum((np.where(np.asarray(lv.power_w) > 0, lv.share, 0.0) for lv in out.levels),
+                         np.zeros(HOURS_PER_YEAR))
+        partly = (delivering > 0) & (delivering < 1)
+        if not partly.any():
+            continue
+        off_draw_j = float(np.max(np.where(partly, (1.0 - delivering) * prep.demand_j, 0.0)))
+        if off_draw_j > usable_j:
+            notes.append(f"{h.id}: delivers for only part of some hours; the node then draws up to "
+                         f"{off_draw_j:.3g} J while it is off, more than the store's usable {usable_j:.3g} J. "
+                         "The hourly model assumes the store carries the node through those minutes: on this "
+                         "store it may go dark within such hours.")
+    return notes
 
 
 def caution_keys(spec: SiteSpec) -> set[str]:

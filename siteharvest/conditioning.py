@@ -191,6 +191,41 @@ def condition(spec: ConditioningSpec, available_w: np.ndarray, voltage_v: np.nda
     return ConditionedPower(running, cold, spec.quiescent_ua * 1e-6 * store_v)
 
 
+def condition_levels(spec: ConditioningSpec, levels: list[Any], store_v: float) -> ConditionedPower:
+    """Power into the store from a transducer that spends each hour in one or more states.
+
+    Method: each state's power (while in it, not averaged over the hour) goes through
+    :func:`condition` (tracking, clamp, converter curve, running and cold-start thresholds); the
+    results are weighted by the share of the hour spent in that state and added. A source on a
+    share ``f`` of the hour thus gives exactly ``f`` times what it gives when on all hour. The store
+    is assumed to carry the node through the minutes the source is off within an hour (see
+    :func:`siteharvest.assess.within_hour_notes` for when it cannot).
+
+    Parameters
+    ----------
+    spec : ConditioningSpec
+    levels : list of siteharvest.sources.base.PowerLevel
+        Each with ``power_w`` [W] while in the state (shape (8760,) or (sizes, 8760)), ``voltage_v`` [V]
+        or None, and ``share`` [-] of each hour (shape (8760,), or broadcastable to the power).
+    store_v : float [V]
+        Representative store voltage, to turn the quiescent current into power.
+
+    Returns
+    -------
+    ConditionedPower
+        Hourly means ``running_w`` and ``cold_w`` [W], and ``quiescent_w`` [W].
+    """
+    running: Any = 0.0
+    cold: Any = 0.0
+    quiescent_w = spec.quiescent_ua * 1e-6 * store_v
+    for level in levels:
+        share = np.clip(np.asarray(level.share, dtype=float), 0.0, 1.0)
+        one = condition(spec, level.power_w, level.voltage_v, store_v)
+        running = running + share * one.running_w
+        cold = cold + share * one.cold_w
+    return ConditionedPower(np.asarray(running, dtype=float), np.asarray(cold, dtype=float), quiescent_w)
+
+
 def bridge_rectifier(peak_v: np.ndarray, power_w: np.ndarray, diode_drop_v: float = 0.3,
                      diodes_in_path: int = 2) -> tuple[np.ndarray, np.ndarray]:
     """Full-wave bridge rectifier on a sinusoidal source: DC voltage and power after the diodes.

@@ -8,9 +8,9 @@ Arrays are shaped (configurations, hours). Each hour, for every configuration:
    unmet and the node switches off (undervoltage lockout);
 3. the surplus harvest charges the store, scaled by the charge efficiency, where charging is
    allowed (temperature window), up to full; the rest is spilled;
-4. leakage ``a*e + b*sqrt(e) + c`` is taken from the store, where ``c`` (the converter's
-   quiescent draw) applies only once the store is past its cold-start level: while cold-starting
-   the converter runs from its input;
+4. leakage ``s_t (a*e + b*sqrt(e)) + c`` is taken from the store, where ``s_t`` is the hour's
+   leakage factor (the store's temperature) and ``c`` (the converter's quiescent draw) applies only
+   once the store is past its cold-start level: while cold-starting the converter runs from its input;
 5. a node that is off, or was cut off this hour, runs in the next hour only if the store stands
    at its turn-on level (without hysteresis, turn-on = cut-off, it serves what it can hour by hour).
 
@@ -143,17 +143,19 @@ def _add_flows(flows, h, direct, draw, unmet, stored, loss, spill, leak):  # pra
 
 
 @njit(cache=True, nogil=True, parallel=True)
-def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
+def _run(h_run, h_cold, rows, dem, allowed, scale, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
          leak_a, leak_b, leak_c, min_from, hourly, stop_when_on, daily_only, on_rec, short_rec, dark_day_rec,
          e_min, e_end, totals, e_rec, served_rec, unmet_rec):  # pragma: no cover - compiled
     n_conf = rows.shape[0]
     n_hours = h_run.shape[1]
     shared_dem = dem.shape[0] == 1
     shared_allowed = allowed.shape[0] == 1
+    shared_scale = scale.shape[0] == 1
     for k in prange(n_conf):
         r = rows[k]
         kd = k - k if shared_dem else k  # same integer type as k
         ka = k - k if shared_allowed else k
+        ks = k - k if shared_scale else k
         c_cut, c_full, c_on, c_cold = cut[k], full[k], turn_on[k], cold_lvl[k]
         c_eff, c_a, c_b, c_c, c_forced = eff[k], leak_a[k], leak_b[k], leak_c[k], forced[k]
         e = e0[k]
@@ -164,7 +166,7 @@ def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on,
             was_on = on
             e, on, short, h, direct, draw, unmet, stored, loss, spill, leak = _hour(
                 h_run[r, t], h_cold[r, t], dem[kd, t], allowed[ka, t], e, on, c_cut, c_full, c_on, c_cold,
-                c_eff, c_a, c_b, c_c, c_forced)
+                c_eff, c_a * scale[ks, t], c_b * scale[ks, t], c_c, c_forced)
             if daily_only:
                 if short or not was_on:
                     dark_day_rec[k, t // 24] = True
@@ -188,7 +190,7 @@ def _run(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on,
 
 
 @njit(cache=True, nogil=True, parallel=True)
-def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
+def _run_steady(h_run, h_cold, rows, dem, allowed, scale, e0, on0, forced, cut, full, turn_on, cold_lvl, eff,
                 leak_a, leak_b, leak_c, dark_day_rec, e_min, e_end, totals):  # pragma: no cover - compiled
     """A warm-up year then the counted year on the same inputs. Once the counted year's state
     (store, node) equals the warm-up year's at the same hour, the rest of the counted year repeats
@@ -197,10 +199,12 @@ def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, t
     n_hours = h_run.shape[1]
     shared_dem = dem.shape[0] == 1
     shared_allowed = allowed.shape[0] == 1
+    shared_scale = scale.shape[0] == 1
     for k in prange(n_conf):
         r = rows[k]
         kd = k - k if shared_dem else k
         ka = k - k if shared_allowed else k
+        ks = k - k if shared_scale else k
         c_cut, c_full, c_on, c_cold = cut[k], full[k], turn_on[k], cold_lvl[k]
         c_eff, c_a, c_b, c_c, c_forced = eff[k], leak_a[k], leak_b[k], leak_c[k], forced[k]
         e1 = np.empty(n_hours)
@@ -213,7 +217,7 @@ def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, t
             was_on = on
             e, on, short, h, direct, draw, unmet, stored, loss, spill, leak = _hour(
                 h_run[r, t], h_cold[r, t], dem[kd, t], allowed[ka, t], e, on, c_cut, c_full, c_on, c_cold,
-                c_eff, c_a, c_b, c_c, c_forced)
+                c_eff, c_a * scale[ks, t], c_b * scale[ks, t], c_c, c_forced)
             e1[t] = e
             on1[t] = on
             dark1[t] = short or not was_on
@@ -225,7 +229,7 @@ def _run_steady(h_run, h_cold, rows, dem, allowed, e0, on0, forced, cut, full, t
             was_on = on
             e, on, short, h, direct, draw, unmet, stored, loss, spill, leak = _hour(
                 h_run[r, t], h_cold[r, t], dem[kd, t], allowed[ka, t], e, on, c_cut, c_full, c_on, c_cold,
-                c_eff, c_a, c_b, c_c, c_forced)
+                c_eff, c_a * scale[ks, t], c_b * scale[ks, t], c_c, c_forced)
             if short or not was_on:
                 dark_day_rec[k, t // 24] = True
             if e < lowest:
@@ -255,6 +259,7 @@ def simulate(
     *,
     cold_harvest_j: np.ndarray | None = None,
     charge_allowed: np.ndarray | None = None,
+    leak_scale: np.ndarray | None = None,
     initial_energy_j: np.ndarray | float = 0.0,
     initially_on: np.ndarray | bool = False,
     always_on: np.ndarray | bool = False,
@@ -279,6 +284,10 @@ def simulate(
         Energy delivered while the store is below its cold-start level (default: ``harvest_j``).
     charge_allowed : bool array (C, H) or (H,), optional
         Hours in which the store may charge (default: all).
+    leak_scale : array (C, H) or (H,) [-], optional
+        Factor on the store's proportional and square-root leakage in each hour (a store's
+        self-discharge rising with its temperature); the constant term (the converter's quiescent
+        draw) is not scaled. Default: 1.
     initial_energy_j : float or (C,) [J]
         Stored energy at the first hour (0: empty).
     initially_on, always_on : bool or (C,)
@@ -322,7 +331,8 @@ def simulate(
     rows = _table(rows, n_conf, dtype=np.int64)[0]
     dem = _table(demand_j, n_hours)
     allowed = _table(True if charge_allowed is None else charge_allowed, n_hours, dtype=np.bool_)
-    for name, arr in (("demand_j", dem), ("charge_allowed", allowed)):
+    scale = _table(1.0 if leak_scale is None else leak_scale, n_hours)
+    for name, arr in (("demand_j", dem), ("charge_allowed", allowed), ("leak_scale", scale)):
         if arr.shape[0] not in (1, n_conf):
             raise ValueError(f"{name} must have 1 or {n_conf} rows, has {arr.shape[0]}")
 
@@ -339,7 +349,8 @@ def simulate(
     e_min, e_end = np.empty(n_conf), np.empty(n_conf)
     totals = np.empty((len(_TOTAL_KEYS), n_conf))
     e0 = per_conf(initial_energy_j)
-    common = (h_run, h_cold, rows, dem, allowed, e0, per_conf(initially_on, np.bool_), per_conf(always_on, np.bool_),
+    common = (h_run, h_cold, rows, dem, allowed, scale, e0, per_conf(initially_on, np.bool_),
+              per_conf(always_on, np.bool_),
               per_conf(store.cutoff_j), per_conf(store.max_j), per_conf(store.turn_on_j),
               per_conf(store.cold_start_j), per_conf(store.charge_efficiency), per_conf(store.leak_fraction_per_h),
               per_conf(store.leak_sqrt_j_per_h), per_conf(store.leak_const_j_per_h))

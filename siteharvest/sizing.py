@@ -35,14 +35,14 @@ import numpy as np
 from pydantic import BaseModel
 
 from .assess import COMBINED_ID, Harvest, Prepared, combine, install_hour
-from .conditioning import condition
+from .conditioning import condition_levels
 from .demand import demand_energy_j
 from .errors import SiteInputError
 from .fields import bounds_of
 from .kernel import StoreArrays, simulate
 from .metrics import first_wake_hours
 from .schedule import WeeklySchedule
-from .sources import SOURCE_KINDS, SizeKnob, field_model, kind_of, source_output
+from .sources import SOURCE_KINDS, PowerLevel, SizeKnob, field_model, kind_of, source_output
 from .store import SupercapacitorSpec, store_levels
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, month_of_hour
 
@@ -268,18 +268,19 @@ def _harvest_at_sizes(prep: Prepared, index: int, sizes: np.ndarray, knob: SizeK
     if knob.proportional:
         out = base.terminal if base.terminal is not None else source_output(spec, prep.context)
         scale = sizes[:, None] / drawn
-        power = out.power_w[None, :] * scale
-        volts = None
-        if out.voltage_v is not None:
-            scales = knob.voltage_scales is not None and knob.voltage_scales(spec)
-            volts = out.voltage_v[None, :] * (scale if scales else 1.0)
+        scales = knob.voltage_scales is not None and knob.voltage_scales(spec)
+        levels = [PowerLevel(level.power_w[None, :] * scale,
+                             None if level.voltage_v is None else level.voltage_v[None, :] * (scale if scales else 1.0),
+                             level.share) for level in out.power_levels()]
     else:
         outs = [source_output(with_knob(spec, knob.field, v), prep.context) for v in sizes]
-        power = np.array([o.power_w for o in outs])
-        volts = None if outs[0].voltage_v is None else np.array([o.voltage_v for o in outs])
-        if volts is None or any(o.voltage_v is None for o in outs):
-            volts = None
-    cond = condition(spec.conditioning, power, volts, prep.spec.store.representative_v)
+        per_size = [o.power_levels() for o in outs]
+        levels = []
+        for k in range(len(per_size[0])):
+            parts = [lv[k] for lv in per_size]
+            volts = None if any(p.voltage_v is None for p in parts) else np.array([p.voltage_v for p in parts])
+            levels.append(PowerLevel(np.array([p.power_w for p in parts]), volts, np.array([p.share for p in parts])))
+    cond = condition_levels(spec.conditioning, levels, prep.spec.store.representative_v)
     return Harvest(spec.id, spec.kind, base.label, cond.running_w, cond.cold_w, cond.quiescent_w,
                    spec.conditioning.cold_start_until_v)
 
@@ -376,6 +377,7 @@ def _map_once(prep: Prepared, index: int, knob: SizeKnob, n_harvester: int, n_st
     rows = np.repeat(np.arange(n_h), n_s)
     steady = simulate(harvest.running_w * SECONDS_PER_HOUR, prep.demand_j, store_arr,
                       cold_harvest_j=harvest.cold_w * SECONDS_PER_HOUR, charge_allowed=prep.charge_allowed,
+                      leak_scale=prep.leak_scale,
                       harvest_rows=rows, steady_year=True)
     dd = steady.dark_days.sum(axis=1).reshape(n_h, n_s)
     # first wake: empty store at the installation hour, one year on
@@ -383,7 +385,8 @@ def _map_once(prep: Prepared, index: int, knob: SizeKnob, n_harvester: int, n_st
     order = np.r_[start:HOURS_PER_YEAR, 0:start][:FIRST_WAKE_HORIZON_H]
     wake = simulate(harvest.running_w[:, order] * SECONDS_PER_HOUR, prep.demand_j[order], store_arr,
                     cold_harvest_j=harvest.cold_w[:, order] * SECONDS_PER_HOUR,
-                    charge_allowed=prep.charge_allowed[order], harvest_rows=rows, stop_when_on=True)
+                    charge_allowed=prep.charge_allowed[order], leak_scale=prep.leak_scale[order],
+                    harvest_rows=rows, stop_when_on=True)
     fw = first_wake_hours(wake.on).reshape(n_h, n_s)
     front, pick = frontier_and_pick(dd <= target)
     at_limit = not _room(spec, knob, float(h_sizes[0]), toward_more=False)
@@ -457,6 +460,7 @@ def _steady_deficit(prep: Prepared, harvest: Harvest, demand_j: np.ndarray) -> i
                       quiescent_w=harvest.quiescent_w)
     res = simulate(harvest.running_w[None, :] * SECONDS_PER_HOUR, demand_j, StoreArrays.stack([lv]),
                    cold_harvest_j=harvest.cold_w[None, :] * SECONDS_PER_HOUR, charge_allowed=prep.charge_allowed,
+                   leak_scale=prep.leak_scale,
                    steady_year=True)
     return int(res.dark_days.sum())
 
@@ -629,6 +633,7 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
         hours, down_c = hours_from_days(day_map[rows]), down[rows]
         n = hours.shape[0]
         allowed = prep.charge_allowed[hours]
+        scale = prep.leak_scale[hours]
         per_source_run, per_source_cold = [], []
         for h in prep.harvests:
             run, cold = h.running_w[hours], h.cold_w[hours]
@@ -640,7 +645,8 @@ def weather_risk(prep: Prepared, *, years: int = 500, seed: int = 1, outage_rate
         cases.append((both, np.sum(per_source_run, axis=0), np.sum(per_source_cold, axis=0)))
         for h, run, cold in cases:
             res = simulate(run * SECONDS_PER_HOUR, prep.demand_j, StoreArrays.stack([levels[h.id]] * n),
-                           cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, steady_year=True)
+                           cold_harvest_j=cold * SECONDS_PER_HOUR, charge_allowed=allowed, leak_scale=scale,
+                           steady_year=True)
             chunks[h.id].append(res.dark_days.sum(axis=1))
     results = {k: np.concatenate(v) for k, v in chunks.items()}
     return WeatherRisk(years, seed, results, day_map)

@@ -97,7 +97,11 @@ class SupercapacitorSpec(Section):
     turn_on_v: float = quantity(3.0, "V", "voltage at which the node is switched back on", gt=0, le=60,
                                 step=0.1)
     esr_ohm: float = quantity(0.5, "ohm", "equivalent series resistance", ge=0, le=1000)
-    leakage_ua: float = quantity(2.0, "uA", "leakage current after settling", ge=0, le=10_000)
+    leakage_ua: float = quantity(2.0, "uA", "leakage current at the rated voltage after 72 h at 25 degC (the "
+                                 "datasheet figure); it falls with voltage and rises with temperature",
+                                 ge=0, le=10_000)
+    rated_v: float | None = quantity(None, "V", "rated voltage the leakage figure is given at (default: max_v)",
+                                     gt=0, le=60, step=0.1)
     temperature_offset_c: float = quantity(0.0, "degC", "store temperature above the spot's air", ge=-20, le=60)
     backup: BackupCellSpec | None = Field(None, description="optional primary backup cell")
 
@@ -194,9 +198,10 @@ def store_levels(store: SupercapacitorSpec | RechargeableCellSpec, *, cold_start
             max_j=store.energy_at_j(store.max_v), cutoff_j=store.energy_at_j(store.cutoff_v),
             turn_on_j=store.energy_at_j(store.turn_on_v),
             cold_start_j=store.energy_at_j(min(cold_start_until_v, store.max_v)),
-            leak_fraction_per_h=0.0,
-            # I V with V = sqrt(2 E / C):  I sqrt(2/C) sqrt(E) per second
-            leak_sqrt_j_per_h=store.leakage_ua * 1e-6 * np.sqrt(2.0 / cap) * SECONDS_PER_HOUR,
+            # I(V) = I_rated V / V_rated, so I V = I_rated V^2 / V_rated = 2 I_rated E / (C V_rated)
+            leak_fraction_per_h=store.leakage_ua * 1e-6 * 2.0 / (cap * (store.rated_v or store.max_v))
+            * SECONDS_PER_HOUR,
+            leak_sqrt_j_per_h=0.0,
             leak_const_j_per_h=const, charge_efficiency=1.0,
         )
     full = store.usable_energy_j
@@ -205,6 +210,45 @@ def store_levels(store: SupercapacitorSpec | RechargeableCellSpec, *, cold_start
         leak_fraction_per_h=store.self_discharge_pct_per_month / 100.0 / HOURS_PER_MONTH,
         leak_sqrt_j_per_h=0.0, leak_const_j_per_h=const, charge_efficiency=store.charge_efficiency,
     )
+
+
+LEAKAGE_DOUBLING_K = 10.0  # self-discharge doubles per 10 K (common practice, Arrhenius-type rule of thumb)
+LEAKAGE_REFERENCE_C = 25.0  # temperature of the datasheet's leakage figure
+
+
+def leakage_temperature_factor(store: SupercapacitorSpec | RechargeableCellSpec,
+                               air_temp_c: np.ndarray) -> np.ndarray:
+    """Hourly factor on the store's leakage from its temperature [-].
+
+    Method: a supercapacitor's leakage current, given at 25 degC, doubles every 10 K of store
+    temperature (spot air plus ``temperature_offset_c``) and halves every 10 K below, an Arrhenius-type
+    law. A rechargeable cell's self-discharge is its monthly figure in every hour (factor 1).
+
+    Parameters
+    ----------
+    store : SupercapacitorSpec or RechargeableCellSpec
+    air_temp_c : array (8760,) [degC]  air temperature around the store.
+
+    Returns
+    -------
+    ndarray (8760,) [-]
+
+    Validity: store temperatures within the part's rating (about -40 to 85 degC for common
+    double-layer capacitors); outside it the part itself is out of its rating.
+
+    The voltage dependence is in :func:`store_levels`: a parallel leakage resistance, so the current
+    falls in proportion to the voltage below the rated one.
+
+    References
+    ----------
+    Zubieta, L. and Bonert, R. (2000). Characterization of double-layer capacitors for power
+    electronics applications. IEEE Trans. Industry Applications 36(1), 199-205 (parallel leakage
+    resistance). The doubling per 10 K is common practice.
+    """
+    temp = np.asarray(air_temp_c, dtype=float)
+    if not isinstance(store, SupercapacitorSpec):
+        return np.ones(temp.shape)
+    return 2.0 ** ((temp + store.temperature_offset_c - LEAKAGE_REFERENCE_C) / LEAKAGE_DOUBLING_K)
 
 
 def charge_allowed(store: SupercapacitorSpec | RechargeableCellSpec, air_temp_c: np.ndarray) -> np.ndarray:

@@ -336,8 +336,7 @@ def test_dim_crystalline_silicon_note():
 # --------------------------------------------------------------------------------------------------
 
 @pytest.mark.parametrize(("field", "value"), [
-    ("lamp_lux", 120_000.0),            # daylight levels are not lamp light
-    ("lamp_lux", 6000.0),
+    ("lamp_lux", 160_000.0),            # above full sun
     ("lamp_lux", -1.0),
     ("area_cm2", -5.0),
     ("area_cm2", 0.0),

@@ -14,7 +14,7 @@ from siteharvest.metrics import dark_hours, deficit_days, first_wake_hours, long
 
 
 def plain_loop(harvest, cold, demand, allowed, *, full, cut, turn_on, cold_lvl, a, b, c, eff,
-               e0=0.0, on0=False, always=False):
+               e0=0.0, on0=False, always=False, scale=None):
     """The same rules as the kernel, one configuration, written as a readable Python loop."""
     e, on = e0, on0 or always
     rec = {"e": [], "on": [], "unmet": [], "served": []}
@@ -30,7 +30,8 @@ def plain_loop(harvest, cold, demand, allowed, *, full, cut, turn_on, cold_lvl, 
         spare = h - direct
         stored = max(min(spare * eff if allowed[t] else 0.0, full - e), 0.0)
         e += stored
-        leak = min(a * e + b * math.sqrt(e) + (c if e >= cold_lvl else 0.0), e)
+        s_t = 1.0 if scale is None else scale[t]
+        leak = min(s_t * (a * e + b * math.sqrt(e)) + (c if e >= cold_lvl else 0.0), e)
         e -= leak
         rec["on"].append(on)
         rec["e"].append(e)
@@ -54,8 +55,8 @@ hours = st.integers(min_value=24, max_value=120)
 
 @settings(max_examples=60, deadline=None)
 @given(seed=st.integers(0, 2**31), n_hours=hours, sqrt_leak=st.booleans(), always=st.booleans(),
-       eff=st.floats(0.5, 1.0))
-def test_kernel_matches_plain_loop_and_balances(seed, n_hours, sqrt_leak, always, eff):
+       eff=st.floats(0.5, 1.0), scaled=st.booleans())
+def test_kernel_matches_plain_loop_and_balances(seed, n_hours, sqrt_leak, always, eff, scaled):
     rng = np.random.default_rng(seed)
     n = 3
     harvest = rng.exponential(1.0, (n, n_hours)) * (rng.random((n, n_hours)) > 0.4)
@@ -67,13 +68,14 @@ def test_kernel_matches_plain_loop_and_balances(seed, n_hours, sqrt_leak, always
               "cold_start_j": rng.uniform(0, cut + 1), "leak_fraction_per_h": rng.uniform(0, 1e-2),
               "leak_sqrt_j_per_h": rng.uniform(0, 0.05) if sqrt_leak else 0.0,
               "leak_const_j_per_h": rng.uniform(0, 0.01), "charge_efficiency": eff}
+    scale = rng.uniform(0.2, 8.0, n_hours) if scaled else None  # hourly leakage factor (store temperature)
     res = simulate(harvest, demand, store_of(n, **levels), cold_harvest_j=cold, charge_allowed=allowed,
-                   always_on=always, hourly=True)
+                   always_on=always, hourly=True, leak_scale=scale)
     for k in range(n):
         rec, tot = plain_loop(harvest[k], cold[k], demand, allowed, full=full, cut=cut,
                               turn_on=levels["turn_on_j"], cold_lvl=levels["cold_start_j"],
                               a=levels["leak_fraction_per_h"], b=levels["leak_sqrt_j_per_h"],
-                              c=levels["leak_const_j_per_h"], eff=eff, always=always)
+                              c=levels["leak_const_j_per_h"], eff=eff, always=always, scale=scale)
         np.testing.assert_allclose(res.energy_j[k], rec["e"], rtol=1e-9, atol=1e-12)
         np.testing.assert_array_equal(res.on[k], rec["on"])
         np.testing.assert_allclose(res.unmet_j[k], rec["unmet"], rtol=1e-9, atol=1e-12)

@@ -26,6 +26,8 @@ from siteharvest.sources.thermoelectric import (
     air_properties,
     effective_module_resistance_k_w,
     figure_of_merit_zt,
+    fin_efficiency,
+    forced_plate_convection_w_m2k,
     matched_load_power_w,
     matched_load_voltage_v,
     max_efficiency,
@@ -251,9 +253,11 @@ def test_network_solution_is_self_consistent():
     air = np.full(4, 15.0)
     r_sink, heat = solve_thermal_network(dt, air, 2.5, sink)
     dt_sink = heat * r_sink
-    h = vertical_plate_convection_w_m2k(dt_sink, 0.06, air) + radiation_w_m2k(0.9, air + 273.15 + dt_sink,
-                                                                               air + 273.15)
-    np.testing.assert_allclose(r_sink, 1.0 / (120e-4 * h), rtol=1e-9)
+    h_conv = vertical_plate_convection_w_m2k(dt_sink, 0.06, air)
+    eta_o = 1.0 - sink.fin_area_share * (1.0 - fin_efficiency(h_conv, 0.025, 0.0015, 200.0))
+    h_rad = radiation_w_m2k(0.9, air + 273.15 + dt_sink, air + 273.15)
+    conductance = 120e-4 * eta_o * h_conv + sink.envelope_area_cm2 * 1e-4 * h_rad
+    np.testing.assert_allclose(r_sink, 1.0 / conductance, rtol=1e-9)
     np.testing.assert_allclose(heat, dt / (2.5 + r_sink), rtol=1e-12)
     # a small sink in still air: a small (40 x 40 x 20 mm) finned sink is about 5-15 K/W (from memory, low
     # confidence; range only)
@@ -446,3 +450,28 @@ def test_bad_fields_name_the_field(field, value):
     with pytest.raises(ValidationError) as info:
         ThermoelectricSource(id="t", **{field: value})
     assert field in str(info.value)
+
+
+def test_fin_efficiency_of_a_straight_fin():
+    """Adiabatic-tip straight fin: eta = tanh(mL)/(mL) (Incropera & DeWitt eq. 3.89): 0.762 at mL = 1."""
+    # m = sqrt(2 h / (k t)) = 1 / L for h = 10, k = 200, t = 1 mm, L = 0.1 m
+    assert float(fin_efficiency(10.0, 0.1, 0.001, 200.0)) == pytest.approx(math.tanh(1.0), rel=1e-12)
+    assert math.tanh(1.0) == pytest.approx(0.7616, abs=1e-4)
+    assert float(fin_efficiency(10.0, 0.0, 0.001, 200.0)) == 1.0
+
+
+def test_forced_convection_of_a_plate_in_wind():
+    """Laminar flat plate, Nu = 0.664 Re^0.5 Pr^(1/3) (Incropera & DeWitt eq. 7.30), with air at 300 K from
+    Incropera & DeWitt Table A.4 (nu = 15.89e-6 m2/s, k = 0.0263 W/mK, Pr = 0.707): 5 m/s over 50 mm."""
+    re = 5.0 * 0.05 / 15.89e-6
+    expected = 0.664 * re**0.5 * 0.707 ** (1 / 3) * 0.0263 / 0.05
+    assert float(forced_plate_convection_w_m2k(5.0, 0.05, 26.85)) == pytest.approx(expected, rel=0.03)
+
+
+def test_wind_lowers_the_sink_resistance_outdoors_and_the_envelope_limits_radiation():
+    sink = HeatSink()
+    assert sink.envelope_area_cm2 < sink.area_cm2  # fins facing each other do not radiate out
+    still, _ = solve_thermal_network(np.array([30.0]), np.array([10.0]), 2.0, sink)
+    breeze, _ = solve_thermal_network(np.array([30.0]), np.array([10.0]), 2.0, sink, wind_m_s=np.array([3.0]))
+    gale, _ = solve_thermal_network(np.array([30.0]), np.array([10.0]), 2.0, sink, wind_m_s=np.array([15.0]))
+    assert gale[0] < breeze[0] < still[0]

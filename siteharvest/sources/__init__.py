@@ -18,7 +18,7 @@ from ..cautions import CAUTIONS
 from ..context import SpotContext
 from ..files import is_file_field
 from . import indoor_light, rf, solar, thermoelectric, vibration
-from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
+from .base import PowerLevel, PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 #: The registered kinds by their ``kind`` tag, in registration order.
 SOURCE_KINDS: dict[str, SourceKind] = {}
@@ -153,6 +153,6 @@ for _module in (solar, indoor_light, thermoelectric, vibration, rf):   # one lin
     SOURCE_KINDS[_module.KIND.kind] = _module.KIND
 AnySource = source_union()
 
-__all__ = ["SOURCE_KINDS", "AnySource", "KindTable", "PresetField", "SizeKnob", "SourceBase", "SourceKind",
-           "SourceOutput", "check_kind", "field_model", "kind_of", "on_kinds_changed", "register_kind", "source_output",
-           "source_union", "unregister_kind"]
+__all__ = ["SOURCE_KINDS", "AnySource", "KindTable", "PowerLevel", "PresetField", "SizeKnob", "SourceBase",
+           "SourceKind", "SourceOutput", "check_kind", "field_model", "kind_of", "on_kinds_changed", "register_kind",
+           "source_output", "source_union", "unregister_kind"]

@@ -41,25 +41,57 @@ class SourceBase(Section):
 
 
 @dataclass
+class PowerLevel:
+    """One state a transducer is in for a share of each hour (a beam on, lamps lit, a machine running).
+
+    Attributes
+    ----------
+    power_w : ndarray, shape (8760,) or (sizes, 8760)
+        Power at the terminals while in this state [W] (not averaged over the hour).
+    voltage_v : ndarray or None
+        Voltage presented to the converter in this state [V]; ``None`` when not meaningful.
+    share : ndarray, shape (8760,)
+        Share of each hour spent in this state [-], 0..1.
+    """
+
+    power_w: np.ndarray
+    voltage_v: np.ndarray | None
+    share: np.ndarray
+
+
+@dataclass
 class SourceOutput:
     """Hourly yield of one transducer over the reference year.
 
     Attributes
     ----------
     power_w : ndarray, shape (8760,)
-        Mean electrical power the transducer offers at its terminals at its best operating point [W].
+        Mean electrical power the transducer offers at its terminals at its best operating point,
+        averaged over each hour [W].
     voltage_v : ndarray or None
         Voltage it presents to the converter at that point [V]; ``None`` when not meaningful.
     details : dict
         Intermediate hourly arrays worth plotting (units in their keys, e.g. ``poa_w_m2``).
     notes : list of str
         Plain-words remarks for the user (e.g. "peak at 98 Hz sits 4 Hz off resonance").
+    levels : list of PowerLevel or None
+        For a source that delivers only part of each hour (a pulsed beam, lamps lit for part of it, a
+        machine that runs part of the time): the states it is in and for what share of the hour. The
+        converter, its thresholds and the cold start act on each state's own power; ``power_w`` is
+        their share-weighted mean. None: the source delivers ``power_w`` all hour.
     """
 
     power_w: np.ndarray
     voltage_v: np.ndarray | None = None
     details: dict[str, np.ndarray] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    levels: list[PowerLevel] | None = None
+
+    def power_levels(self) -> list[PowerLevel]:
+        """The states of each hour; a source that delivers all hour has one, with share 1."""
+        if self.levels is not None:
+            return self.levels
+        return [PowerLevel(self.power_w, self.voltage_v, np.ones(np.shape(self.power_w)[-1]))]
 
 
 @dataclass(frozen=True)

@@ -60,7 +60,7 @@ from functools import cache
 from typing import Any, Literal
 
 import numpy as np
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from .. import photometry
 from ..conditioning import ConditioningSpec
@@ -68,7 +68,7 @@ from ..context import SpotContext
 from ..errors import SiteInputError
 from ..fields import quantity
 from ..schedule import WeeklySchedule
-from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
+from .base import PowerLevel, PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 BOLTZMANN_OVER_Q_V_K = 8.617333262e-5  # k/q [V/K] (CODATA 2018)
 HC_OVER_Q_NM_V = 1239.84198            # h c / q [V nm]: photon energy [eV] = 1239.84 / wavelength [nm]
@@ -246,7 +246,10 @@ def _check_lux(lux: np.ndarray, field: str) -> np.ndarray:
 
 def cell_power_density_w_m2(lux_by_source: dict[str, np.ndarray], technology: str, efficiency_ref_pct: float,
                             voc_ref_v: float, ideality_factor: float,
-                            temp_c: np.ndarray | float = 25.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+                            temp_c: np.ndarray | float = 25.0,
+                            efficiency_table: list[tuple[float, float]] | None = None,
+                            table_light_source: str = "neutral-white-led",
+                            ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Maximum-power density of a cell under mixed light [W/m2 of cell].
 
     Method
@@ -255,6 +258,11 @@ def cell_power_density_w_m2(lux_by_source: dict[str, np.ndarray], technology: st
     reference-equivalent irradiance E_c M_c (M from :func:`spectral_match`). With G = sum E_c M_c
     and G_ref the irradiance of 1000 lx of the reference light:
     P = eta_ref * low_light_factor(G/G_ref) * G.
+
+    With a measured ``efficiency_table`` (illuminance [lx], efficiency [%]) under
+    ``table_light_source`` instead: the table light's illuminance E* giving the same equivalent
+    irradiance, E* = G / (K_t^-1 M_t), is looked up (linear in log illuminance, held at the table's
+    ends) and P = eta(E*) G / M_t, so the table is used exactly under its own light.
 
     Parameters
     ----------
@@ -279,6 +287,13 @@ def cell_power_density_w_m2(lux_by_source: dict[str, np.ndarray], technology: st
         equivalent = equivalent + e * spectral_match(source, technology)
     g_ref = REFERENCE_LUX * irradiance_per_lux_w_m2(REFERENCE_SOURCE)
     relative = np.asarray(equivalent, dtype=float) / g_ref
+    if efficiency_table is not None:
+        table = np.asarray(sorted(efficiency_table), dtype=float)
+        match_t = spectral_match(table_light_source, technology)
+        lux_t = np.asarray(equivalent, dtype=float) / (irradiance_per_lux_w_m2(table_light_source) * match_t)
+        eta = np.interp(np.log10(np.maximum(lux_t, 1e-9)), np.log10(table[:, 0]), table[:, 1]) / 100.0
+        power = np.where(lux_t > 0, eta * np.asarray(equivalent, dtype=float) / match_t, 0.0)
+        return np.asarray(power, dtype=float), np.asarray(irradiance, dtype=float), relative
     factor = low_light_factor(relative, voc_ref_v, ideality_factor, temp_c)
     power = efficiency_ref_pct / 100.0 * factor * equivalent
     return np.asarray(power, dtype=float), np.asarray(irradiance, dtype=float), relative
@@ -348,8 +363,17 @@ class IndoorLightSource(SourceBase):
     ideality_factor: float = quantity(1.8, "-", "diode ideality factor (sets the fall of voltage and "
                                       "efficiency at low light)", ge=0.8, le=4, step=0.1)
     cells_in_series: int = quantity(4, "-", "cells connected in series in the module", ge=1, le=100, step=1)
-    lamp_lux: float = quantity(500.0, "lx", "illuminance from the lamps at the cell while they are lit",
-                               ge=0, le=5000, step=10)
+    lamp_lux: float = quantity(500.0, "lx", "illuminance from the lamps at the cell while they are lit "
+                               "(a windowsill or a lit bench may exceed 5,000 lx)", ge=0,
+                               le=photometry.MAX_ILLUMINANCE_LX, step=10)
+    efficiency_table: list[tuple[float, float]] | None = Field(
+        None, min_length=2, max_length=50,
+        description="measured or datasheet efficiency against illuminance: pairs (illuminance [lx], "
+                    "efficiency [%]) under table_light_source; replaces efficiency_ref_pct and the "
+                    "low-light law for the power")
+    table_light_source: LightSource = Field("neutral-white-led", description="the light the efficiency "
+                                            "table was measured under: one of "
+                                            + ", ".join(photometry.LAMP_SOURCES))
     light_source: LightSource = Field("neutral-white-led", description="kind of lamp: one of "
                                       + ", ".join(photometry.LAMP_SOURCES))
     lamp_schedule: WeeklySchedule = Field(
@@ -372,6 +396,20 @@ class IndoorLightSource(SourceBase):
         name = data.get("technology", DEFAULT_TECHNOLOGY)
         start = TECHNOLOGIES.get(name, {}) if isinstance(name, str) else {}
         return {**start, **data}   # an unknown name (or a list, a table) fails on the field itself
+
+
+    @field_validator("efficiency_table")
+    @classmethod
+    def _table(cls, table: list[tuple[float, float]] | None) -> list[tuple[float, float]] | None:
+        if table is None:
+            return table
+        lux = [p[0] for p in table]
+        if any(not (0 < x <= photometry.MAX_ILLUMINANCE_LX) for x in lux) or len(set(lux)) != len(lux):
+            raise ValueError(f"efficiency_table illuminances must be distinct, from above 0 to "
+                             f"{photometry.MAX_ILLUMINANCE_LX:.0f} lx")
+        if any(not (0 <= p[1] <= 60) for p in table):
+            raise ValueError("efficiency_table efficiencies must lie from 0 to 60 %")
+        return sorted(table)
 
 
 assert set(LightSource.__args__) == set(photometry.LAMP_SOURCES)  # type: ignore[attr-defined]
@@ -411,7 +449,8 @@ def indoor_light_output(spec: IndoorLightSource, ctx: SpotContext) -> SourceOutp
         daylight_lx = np.zeros(n)
     lamp_lx = np.where(lamp_on, spec.lamp_lux, 0.0)
     cell = {"technology": spec.technology, "efficiency_ref_pct": spec.efficiency_ref_pct,
-            "voc_ref_v": spec.voc_ref_v, "ideality_factor": spec.ideality_factor, "temp_c": temp_c}
+            "voc_ref_v": spec.voc_ref_v, "ideality_factor": spec.ideality_factor, "temp_c": temp_c,
+            "efficiency_table": spec.efficiency_table, "table_light_source": spec.table_light_source}
 
     lit_light = {spec.light_source: lamp_lx, "daylight": daylight_lx}
     p_lit, e_lit, x_lit = cell_power_density_w_m2(lit_light, **cell)
@@ -442,12 +481,20 @@ def indoor_light_output(spec: IndoorLightSource, ctx: SpotContext) -> SourceOutp
             notes.append(f"Crystalline silicon at about {median_lx:.0f} lx: real cells often lose more than "
                          "this model shows below ~200 lx (shunt leakage); amorphous silicon or organic "
                          "cells suit dim light better.")
+    if spec.efficiency_table is None and float(np.max(lamp_lx + daylight_lx, initial=0.0)) > 5000.0:
+        notes.append("Above 5,000 lx the cell's low-light law is extrapolated: give efficiency_table from "
+                     "the cell's datasheet or a measurement for these light levels.")
     if spec.daylight_factor_pct > 0:
         notes.append("Daylight is skylight only (daylight factor method); direct sun through a window "
                      "onto the cell is not included.")
+    lit_level = PowerLevel(p_lit * area_m2, np.where(p_lit > 0, spec.cells_in_series * VMP_OVER_VOC * v_lit, 0.0),
+                           share)
+    dark_level = PowerLevel(p_dark * area_m2,
+                            np.where(p_dark > 0, spec.cells_in_series * VMP_OVER_VOC * v_dark, 0.0), 1.0 - share)
     return SourceOutput(
         power_w=power_w,
         voltage_v=voltage_v,
+        levels=[lit_level, dark_level],
         details={
             "illuminance_lx": mean_lamp_lx + daylight_lx,
             "lamp_illuminance_lx": mean_lamp_lx,

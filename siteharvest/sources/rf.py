@@ -30,6 +30,7 @@ voltage across the rectifier's load while the field is present.
 
 from __future__ import annotations
 
+import math
 from itertools import pairwise
 from typing import Any, Literal
 
@@ -38,10 +39,10 @@ from pydantic import Field, field_validator
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
-from ..fields import quantity
+from ..fields import Section, quantity
 from ..schedule import WeeklySchedule
 from ..timegrid import HOURS_PER_YEAR
-from .base import SizeKnob, SourceBase, SourceKind, SourceOutput
+from .base import PowerLevel, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 SPEED_OF_LIGHT_M_S = 299_792_458.0
 
@@ -63,6 +64,32 @@ EIRP_LIMITS: list[tuple[float, float, float, str]] = [
     (2400.0, 2483.5, 20.0, "EU 2400-2483.5 MHz, ETSI EN 300 328: 100 mW EIRP"),
 ]
 COMMON_EIRP_LIMIT_DBM = 36.0
+
+
+def checked_curve(curve: list[tuple[float, float]]) -> list[tuple[float, float]]:
+    """A rectifier efficiency curve checked: input powers increasing within -100..60 dBm, efficiencies 0..1."""
+    xs = [x for x, _ in curve]
+    if any(b <= a for a, b in pairwise(xs)):
+        raise ValueError("input powers [dBm] must increase")
+    if any(not -100 <= x <= 60 for x in xs):
+        raise ValueError("input powers from -100 to 60 dBm")
+    if any(not 0 <= e <= 1 for _, e in curve):
+        raise ValueError("efficiencies must lie in 0..1")
+    return curve
+
+
+class RectifierCurve(Section):
+    """One measured rectifier curve: efficiency against input power at one frequency and DC load."""
+
+    frequency_mhz: float = quantity(..., "MHz", "frequency the curve was measured at", ge=1, le=100_000)
+    dc_load_ohm: float = quantity(..., "ohm", "DC load the curve was measured into", gt=0, le=1e7)
+    curve: list[tuple[float, float]] = Field(..., min_length=2, description="pairs (input [dBm], "
+                                             "efficiency [-]), linear between points, flat beyond the ends")
+
+    @field_validator("curve")
+    @classmethod
+    def _curve_ok(cls, curve: list[tuple[float, float]]) -> list[tuple[float, float]]:
+        return checked_curve(curve)
 
 
 class RfSource(SourceBase):
@@ -92,12 +119,18 @@ class RfSource(SourceBase):
                                         description="when the transmitter (or the ambient field) is on")
     duty_fraction: float = quantity(1.0, "-", "share of its on-hours the transmitter radiates", ge=0,
                                     le=1, step=0.01)
-    ambient_density_uw_cm2: float = quantity(0.1, "uW/cm2", "incident power density in ambient mode",
+    ambient_density_uw_cm2: float = quantity(0.001, "uW/cm2", "incident power density in ambient mode "
+                                             "(away from transmitter masts typically pW to nW per cm2)",
                                              gt=0, le=1e4)
     rectifier_curve: list[tuple[float, float]] = Field(
         default_factory=lambda: list(DEFAULT_RECTIFIER_CURVE), min_length=2,
         description="rectifier RF-to-DC efficiency against input power: pairs (input [dBm], efficiency "
         "[-]), linear between points, flat beyond the ends")
+    rectifier_curves: list[RectifierCurve] | None = Field(
+        None, max_length=40,
+        description="measured rectifier curves, one per frequency and DC load ([[source.rectifier_curves]] "
+                    "tables); the one measured nearest this source's frequency and DC load replaces "
+                    "rectifier_curve")
     rectifier_sensitivity_dbm: float = quantity(-20.0, "dBm", "least input power the rectifier turns "
                                                 "into usable DC", ge=-60, le=20, step=1)
     dc_load_ohm: float = quantity(5000.0, "ohm", "DC load the rectifier works into (sets its output "
@@ -109,14 +142,24 @@ class RfSource(SourceBase):
     @field_validator("rectifier_curve")
     @classmethod
     def _curve_ok(cls, curve: list[tuple[float, float]]) -> list[tuple[float, float]]:
-        xs = [x for x, _ in curve]
-        if any(b <= a for a, b in pairwise(xs)):
-            raise ValueError("input powers [dBm] must increase")
-        if any(not -100 <= x <= 60 for x in xs):
-            raise ValueError("input powers from -100 to 60 dBm")
-        if any(not 0 <= e <= 1 for _, e in curve):
-            raise ValueError("efficiencies must lie in 0..1")
-        return curve
+        return checked_curve(curve)
+
+    def rectifier_in_use(self) -> tuple[list[tuple[float, float]], str | None]:
+        """The efficiency curve to use, and a note naming the measured curve chosen (None: the single one).
+
+        Nearest in log frequency first, then in log DC load: a rectifier's match and its diodes'
+        operating point change with both."""
+        if not self.rectifier_curves:
+            return list(self.rectifier_curve), None
+        best = min(self.rectifier_curves, key=lambda c: (abs(math.log(c.frequency_mhz / self.frequency_mhz)),
+                                                         abs(math.log(c.dc_load_ohm / self.dc_load_ohm))))
+        note = (f"Rectifier curve measured at {best.frequency_mhz:g} MHz into {best.dc_load_ohm:g} ohm used "
+                f"for {self.frequency_mhz:g} MHz into {self.dc_load_ohm:g} ohm")
+        off = max(abs(math.log(best.frequency_mhz / self.frequency_mhz)),
+                  abs(math.log(best.dc_load_ohm / self.dc_load_ohm)))
+        far = off > math.log(1.1)
+        note += "; it was measured more than 10 % away: measure it at this frequency and load." if far else "."
+        return list(best.curve), note
 
 
 # --------------------------------------------------------------------------------------------
@@ -369,11 +412,15 @@ def rf_output(spec: RfSource, ctx: SpotContext) -> SourceOutput:
                          f"(far field beyond about {d_ff:.2f} m = max(2 D^2/wavelength, wavelength)); the "
                          "Friis estimate is unreliable there.")
     p_in_w = float(dbm_to_w(p_in_dbm))
-    eff = float(rectifier_efficiency(p_in_dbm, spec.rectifier_curve, spec.rectifier_sensitivity_dbm))
+    curve, curve_note = spec.rectifier_in_use()
+    if curve_note:
+        notes.append(curve_note)
+    eff = float(rectifier_efficiency(p_in_dbm, curve, spec.rectifier_sensitivity_dbm))
     p_dc_on_w = eff * p_in_w
     present = spec.transmitter.mask().astype(float) * spec.duty_fraction
     power_w = p_dc_on_w * present
     voltage_v = np.where(present > 0, np.sqrt(p_dc_on_w * spec.dc_load_ohm), 0.0)
+    beam = PowerLevel(np.where(present > 0, p_dc_on_w, 0.0), voltage_v, present)
 
     if p_in_dbm < spec.rectifier_sensitivity_dbm:
         text = (f"The rectifier input ({p_in_dbm:.1f} dBm) is below its sensitivity floor "
@@ -384,7 +431,7 @@ def rf_output(spec: RfSource, ctx: SpotContext) -> SourceOutput:
                 None if spec.path_model == "free-space" else spec.path_loss_exponent)
             text += f"; the floor is reached within about {reach:.1f} m of the transmitter"
         notes.append(text + ".")
-    top_dbm = spec.rectifier_curve[-1][0]
+    top_dbm = curve[-1][0]
     if p_in_dbm > top_dbm:
         notes.append(f"The rectifier input ({p_in_dbm:.1f} dBm) lies above its efficiency table "
                      f"(up to {top_dbm:.0f} dBm): the diodes may be overdriven; check their rating.")
@@ -404,6 +451,7 @@ def rf_output(spec: RfSource, ctx: SpotContext) -> SourceOutput:
             "field_present_fraction": present,
         },
         notes=notes,
+        levels=[beam],
     )
 
 

@@ -47,7 +47,7 @@ from typing import Annotated, Any, Literal
 import numpy as np
 import pandas as pd
 import pvlib
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
@@ -134,7 +134,54 @@ class HeatSink(Section):
     emissivity: float = quantity(0.85, "-", "surface emissivity (anodised 0.8-0.9, bare aluminium "
                                  "0.05-0.1)", ge=0, le=1, step=0.01)
     convection_w_m2k: float | None = quantity(None, "W/m2K", "convective coefficient; left out: "
-                                              "natural convection on a vertical plate", gt=0, le=1000)
+                                              "natural convection on a vertical plate, with the wind "
+                                              "outdoors", gt=0, le=1000)
+    width_mm: float = quantity(50.0, "mm", "width of the sink's base across the fins", gt=0, le=2000, step=1)
+    fin_length_mm: float = quantity(25.0, "mm", "how far the fins stand off the base", ge=0, le=500, step=1)
+    fin_thickness_mm: float = quantity(1.5, "mm", "thickness of one fin", gt=0, le=50, step=0.1)
+    fin_conductivity_w_mk: float = quantity(200.0, "W/mK", "thermal conductivity of the fin metal "
+                                            "(aluminium alloys 150-220, copper 390)", gt=0, le=2000)
+    fin_area_share: float = quantity(0.85, "-", "share of the wetted area that is fin (the rest is base)",
+                                     ge=0, le=1, step=0.01)
+    wind_exposure: float = quantity(0.3, "-", "outdoors: share of the weather year's wind speed (a 10 m "
+                                    "station figure) that reaches the sink; near a wall or in shelter the "
+                                    "air moves far slower (common practice 0.2-0.5)", ge=0, le=1, step=0.05)
+
+    @property
+    def envelope_area_cm2(self) -> float:
+        """Outer faces of the sink's envelope (front, two sides, top and bottom) [cm2]: the area that
+        radiates to the surroundings (fins facing each other exchange radiation among themselves)."""
+        w, hgt, fin = self.width_mm, self.height_mm, self.fin_length_mm
+        return (w * hgt + 2.0 * fin * hgt + 2.0 * w * fin) / 100.0
+
+
+class PipeWall(Section):
+    """The pipe between a process fluid and the module: the hot side's temperatures are then the fluid's.
+
+    The heat crosses the fluid's film, the pipe wall and any insulation left under the module, in series,
+    through the module's footprint (a thin-wall, flat approximation: good while the footprint is small
+    against the pipe's circumference and the wall thin against its radius).
+    """
+
+    film_w_m2k: float = quantity(1000.0, "W/m2K", "fluid-side film coefficient (water in turbulent flow "
+                                 "1000-10000, condensing steam 5000 and up, oils 100-1000, gases 10-100)",
+                                 gt=0, le=1e5)
+    wall_mm: float = quantity(3.0, "mm", "pipe wall thickness", ge=0, le=100, step=0.1)
+    wall_conductivity_w_mk: float = quantity(50.0, "W/mK", "pipe wall metal (carbon steel ~50, stainless "
+                                             "~16, copper ~390)", gt=0, le=2000)
+    lagging_mm: float = quantity(0.0, "mm", "insulation left between the pipe and the module (0: a bare "
+                                 "patch under the module)", ge=0, le=300, step=1)
+    lagging_conductivity_w_mk: float = quantity(0.04, "W/mK", "conductivity of that insulation (mineral "
+                                                "wool 0.035-0.05)", gt=0, le=10)
+
+    def resistance_k_w(self, footprint_m2: float) -> float:
+        """Fluid-to-surface thermal resistance under one module [K/W]: (1/h + t_w/k_w + t_l/k_l) / A.
+
+        References: Incropera, F.P. and DeWitt, D.P. Fundamentals of Heat and Mass Transfer, ch. 3
+        (series conduction and convection resistances)."""
+        per_area = (1.0 / self.film_w_m2k + self.wall_mm * 1e-3 / self.wall_conductivity_w_mk
+                    + self.lagging_mm * 1e-3 / self.lagging_conductivity_w_mk)
+        return per_area / footprint_m2
 
 
 class ThermoelectricSource(SourceBase):
@@ -152,6 +199,8 @@ class ThermoelectricSource(SourceBase):
     resistance_ohm: float = quantity(1.12, "ohm", "module electrical resistance", gt=0, le=10000, step=0.01)
     module_thermal_resistance_k_w: float = quantity(3.6, "K/W", "module thermal resistance, hot to cold "
                                                     "face", gt=0, le=1000, step=0.1)
+    module_side_mm: float = quantity(30.0, "mm", "module side length (square module): the footprint the heat "
+                                     "crosses from a pipe (see pipe)", gt=0, le=200)
     max_hot_side_c: float = quantity(150.0, "degC", "highest hot-side temperature the module is rated "
                                      "for", ge=0, le=1000)
     modules: int = quantity(1, "-", "number of modules, each with its own contacts and heat sink", ge=1,
@@ -159,7 +208,15 @@ class ThermoelectricSource(SourceBase):
     wiring: Literal["series", "parallel"] = Field("series", description="electrical connection of the "
                                                   "modules: 'series' adds voltages, 'parallel' currents")
     hot_side: HotSide = Field(default_factory=ConstantHotSide, description="hot-surface temperature: "
-                              "constant, process schedule or hourly file")
+                              "constant, process schedule or hourly file (the fluid's when pipe is given)")
+    pipe: PipeWall | None = Field(None, description="the pipe wall between a process fluid and the module: "
+                                  "give it to state the fluid's temperature in hot_side instead of the "
+                                  "pipe surface's")
+    power_curve: list[tuple[float, float]] | None = Field(
+        None, min_length=2, max_length=50,
+        description="measured matched-load power of one module against the temperature difference "
+                    "across its faces: pairs (delta T [K], power [mW]); replaces the Seebeck-coefficient "
+                    "law for the power (it goes as delta T squared beyond the curve's ends)")
     cold_side_offset_c: float = quantity(0.0, "K", "air around the heat sink, above the spot's air "
                                          "temperature", ge=-50, le=100, step=0.5)
     hot_contact_resistance_k_w: float = quantity(0.5, "K/W", "surface-to-module contact resistance "
@@ -189,6 +246,18 @@ class ThermoelectricSource(SourceBase):
             mode = "file" if "file" in hot else "schedule" if "process_on_c" in hot else "constant"
             merged["hot_side"] = {"mode": mode, **hot}
         return merged
+
+    @field_validator("power_curve")
+    @classmethod
+    def _curve(cls, curve: list[tuple[float, float]] | None) -> list[tuple[float, float]] | None:
+        if curve is None:
+            return curve
+        dts = [p[0] for p in curve]
+        if any(not (0 < dt <= 1000) for dt in dts) or len(set(dts)) != len(dts):
+            raise ValueError("power_curve temperature differences must be distinct, from above 0 to 1000 K")
+        if any(not (0 <= p[1] <= 1e6) for p in curve):
+            raise ValueError("power_curve powers must lie from 0 to 1e6 mW")
+        return sorted(curve)
 
 
 # --------------------------------------------------------------------------------------------
@@ -228,6 +297,24 @@ def matched_load_power_w(seebeck_v_k: Any, delta_t_k: Any, resistance_ohm: Any) 
     alpha = np.asarray(seebeck_v_k, dtype=float)
     dt = np.asarray(delta_t_k, dtype=float)
     return (alpha * dt) ** 2 / (4.0 * np.asarray(resistance_ohm, dtype=float))
+
+
+def curve_power_w(power_curve: list[tuple[float, float]], delta_t_k: Any) -> np.ndarray:
+    """Matched-load power of one module from a measured curve of power against its delta T [W].
+
+    Method: the measured power over delta T squared (a constant for an ideal module) is interpolated
+    linearly in delta T and held at the curve's ends, then multiplied by delta T squared: exact at
+    the measured points, and the ideal module's square law beyond them.
+
+    Parameters
+    ----------
+    power_curve : pairs (delta T [K], power [mW]), delta T ascending.
+    delta_t_k : float or array [K]  temperature difference across the module's faces (sign ignored).
+    """
+    table = np.asarray(power_curve, dtype=float)
+    ratio_w_k2 = table[:, 1] * 1e-3 / table[:, 0] ** 2
+    dt = np.abs(np.asarray(delta_t_k, dtype=float))
+    return np.interp(dt, table[:, 0], ratio_w_k2) * dt**2
 
 
 def matched_load_voltage_v(seebeck_v_k: Any, delta_t_k: Any, series_modules: int = 1) -> np.ndarray:
@@ -461,6 +548,56 @@ def vertical_plate_convection_w_m2k(delta_t_k: Any, height_m: Any, air_temp_c: A
     return nusselt * k / height
 
 
+def forced_plate_convection_w_m2k(wind_m_s: Any, length_m: Any, air_temp_c: Any,
+                                  pressure_pa: Any = 101325.0) -> np.ndarray:
+    """Forced-convection coefficient of a flat plate in a parallel air stream (mean over its length).
+
+    Method: laminar boundary layer, ``Nu_L = 0.664 Re_L**0.5 Pr**(1/3)`` (Re_L below about 5e5, which
+    a sink tens of mm long in wind up to ~30 m/s stays within); air properties at air temperature.
+
+    Parameters
+    ----------
+    wind_m_s : float or array [m/s]   air speed past the sink (>= 0).
+    length_m : float or array [m]     plate length along the flow, > 0.
+    air_temp_c : float or array [degC]
+    pressure_pa : float or array [Pa]
+
+    Returns
+    -------
+    ndarray [W/(m2 K)]
+
+    References
+    ----------
+    Incropera, F.P. and DeWitt, D.P. Fundamentals of Heat and Mass Transfer, eq. 7.30.
+    """
+    k, nu, pr = air_properties(np.asarray(air_temp_c, dtype=float) + KELVIN, pressure_pa)
+    length = np.asarray(length_m, dtype=float)
+    reynolds = np.maximum(np.asarray(wind_m_s, dtype=float), 0.0) * length / nu
+    return 0.664 * np.sqrt(reynolds) * pr ** (1.0 / 3.0) * k / length
+
+
+def fin_efficiency(h_w_m2k: Any, fin_length_m: Any, thickness_m: Any, conductivity_w_mk: Any) -> np.ndarray:
+    """Efficiency of a straight rectangular fin with an adiabatic tip [-].
+
+    Method: ``eta = tanh(m L) / (m L)``, ``m = sqrt(2 h / (k t))``; 1 for a fin of no length.
+
+    Parameters
+    ----------
+    h_w_m2k : convective coefficient on the fin [W/(m2 K)].
+    fin_length_m : how far the fin stands off the base [m].
+    thickness_m : fin thickness [m].
+    conductivity_w_mk : fin metal's conductivity [W/(m K)].
+
+    References
+    ----------
+    Incropera, F.P. and DeWitt, D.P. Fundamentals of Heat and Mass Transfer, eq. 3.89 and Table 3.5.
+    """
+    ml = np.sqrt(2.0 * np.asarray(h_w_m2k, dtype=float) / (np.asarray(conductivity_w_mk, dtype=float)
+                                                            * np.asarray(thickness_m, dtype=float)))
+    ml = ml * np.asarray(fin_length_m, dtype=float)
+    return np.where(ml > 1e-9, np.tanh(ml) / np.where(ml > 1e-9, ml, 1.0), 1.0)
+
+
 def radiation_w_m2k(emissivity: Any, surface_temp_k: Any, surroundings_temp_k: Any) -> np.ndarray:
     """Linearised radiative coefficient of a small grey surface in large surroundings.
 
@@ -488,13 +625,17 @@ def radiation_w_m2k(emissivity: Any, surface_temp_k: Any, surroundings_temp_k: A
 
 def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_before_sink_k_w: Any,
                           sink: HeatSink, pressure_pa: float = 101325.0, iterations: int = 40,
-                          ) -> tuple[np.ndarray, np.ndarray]:
+                          wind_m_s: Any = None) -> tuple[np.ndarray, np.ndarray]:
     """Heat-sink resistance and heat flow of the series network surface -> module -> sink -> air.
 
-    Method: with a given sink resistance the network is linear. Otherwise the sink's coefficient
-    ``h = h_conv(dT_sink) + h_rad`` (:func:`vertical_plate_convection_w_m2k`,
-    :func:`radiation_w_m2k`) depends on the sink's own temperature rise, found by damped fixed-point
-    iteration (``h`` grows like ``dT**0.25``, so it converges in a few tens of steps).
+    Method: with a given sink resistance the network is linear. Otherwise the sink's conductance is
+    ``h_conv eta_o A + h_rad A_env``: convection over the wetted area ``A`` at the overall surface
+    efficiency ``eta_o = 1 - share_fin (1 - eta_fin)`` (:func:`fin_efficiency`), radiation from the
+    envelope ``A_env`` only (:attr:`HeatSink.envelope_area_cm2`). ``h_conv`` is natural convection on
+    a vertical plate (:func:`vertical_plate_convection_w_m2k`) and, given a wind speed (outdoors),
+    forced convection (:func:`forced_plate_convection_w_m2k`) combined as
+    ``(h_nat**3 + h_forced**3)**(1/3)``. It depends on the sink's own temperature rise, found by
+    damped fixed-point iteration (``h`` grows like ``dT**0.25``; a few tens of steps).
 
     Parameters
     ----------
@@ -504,6 +645,7 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
     sink : HeatSink
     pressure_pa : float [Pa]
     iterations : int
+    wind_m_s : array [m/s] or None   wind past the sink (outdoors); None: still air.
 
     Returns
     -------
@@ -511,7 +653,8 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
 
     References
     ----------
-    Churchill & Chu (1975); Incropera & DeWitt, Fundamentals of Heat and Mass Transfer, ch. 3 and 9.
+    Churchill & Chu (1975); Incropera & DeWitt, Fundamentals of Heat and Mass Transfer, ch. 3, 7 and 9
+    (the cube rule for mixed convection, eq. 9.64).
     """
     dt_total = np.asarray(delta_t_total_k, dtype=float)
     r_before = np.broadcast_to(np.asarray(resistance_before_sink_k_w, dtype=float), dt_total.shape)
@@ -520,15 +663,24 @@ def solve_thermal_network(delta_t_total_k: Any, air_temp_c: Any, resistance_befo
         r_sink = np.full(dt_total.shape, float(sink.resistance_k_w))
         return r_sink, dt_total / (r_before + r_sink)
     area_m2 = sink.area_cm2 * 1e-4
+    envelope_m2 = min(sink.envelope_area_cm2, sink.area_cm2) * 1e-4
     height_m = sink.height_mm * 1e-3
+    forced = (None if wind_m_s is None or sink.convection_w_m2k is not None
+              else forced_plate_convection_w_m2k(np.broadcast_to(np.asarray(wind_m_s, dtype=float), dt_total.shape),
+                                                 height_m, air_c, pressure_pa))
 
     def sink_resistance(dt_sink: np.ndarray) -> np.ndarray:
         if sink.convection_w_m2k is not None:
             h_conv = np.full(dt_sink.shape, float(sink.convection_w_m2k))
         else:
             h_conv = vertical_plate_convection_w_m2k(dt_sink, height_m, air_c, pressure_pa)
+            if forced is not None:
+                h_conv = np.cbrt(h_conv**3 + forced**3)
+        eta_fin = fin_efficiency(h_conv, sink.fin_length_mm * 1e-3, sink.fin_thickness_mm * 1e-3,
+                                 sink.fin_conductivity_w_mk)
+        eta_o = 1.0 - sink.fin_area_share * (1.0 - eta_fin)
         h_rad = radiation_w_m2k(sink.emissivity, air_c + KELVIN + dt_sink, air_c + KELVIN)
-        return 1.0 / (area_m2 * (h_conv + h_rad))
+        return 1.0 / (area_m2 * eta_o * h_conv + envelope_m2 * h_rad)
 
     dt_sink = 0.5 * dt_total
     for _ in range(iterations):
@@ -689,12 +841,19 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         zt = figure_of_merit_zt(spec.seebeck_v_k, spec.resistance_ohm, spec.module_thermal_resistance_k_w,
                                 mean_k)
         r_module = effective_module_resistance_k_w(spec.module_thermal_resistance_k_w, zt)
-    r_before = spec.hot_contact_resistance_k_w + r_module + spec.cold_contact_resistance_k_w
+    footprint_m2 = (spec.module_side_mm * 1e-3) ** 2
+    r_pipe = spec.pipe.resistance_k_w(footprint_m2) if spec.pipe is not None else 0.0
+    r_hot = spec.hot_contact_resistance_k_w + r_pipe
+    r_before = r_hot + r_module + spec.cold_contact_resistance_k_w
     pressure = float(pvlib.atmosphere.alt2pres(ctx.altitude_m))
-    r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure)
-    dt_module = module_delta_t_k(dt_total, r_module,
-                                 spec.hot_contact_resistance_k_w + spec.cold_contact_resistance_k_w + r_sink)
-    power_w = spec.modules * matched_load_power_w(spec.seebeck_v_k, dt_module, spec.resistance_ohm)
+    wind = (None if ctx.indoors
+            else spec.heat_sink.wind_exposure * ctx.weather["wind_speed_m_s"].to_numpy(dtype=float))
+    r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure, wind_m_s=wind)
+    dt_module = module_delta_t_k(dt_total, r_module, r_hot + spec.cold_contact_resistance_k_w + r_sink)
+    if spec.power_curve is not None:
+        power_w = spec.modules * curve_power_w(spec.power_curve, dt_module)
+    else:
+        power_w = spec.modules * matched_load_power_w(spec.seebeck_v_k, dt_module, spec.resistance_ohm)
     in_series = spec.modules if spec.wiring == "series" else 1
     voltage_v = matched_load_voltage_v(spec.seebeck_v_k, dt_module, in_series)
 
@@ -730,6 +889,7 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
         voltage_v=voltage_v,
         details={
             "hot_side_c": hot_c,
+            "pipe_surface_c": hot_c - heat_w * r_pipe,
             "cold_air_c": cold_c,
             "delta_t_total_k": dt_total,
             "delta_t_module_k": dt_module,

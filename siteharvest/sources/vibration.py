@@ -14,9 +14,11 @@ frequency ratio. Then:
    variation); a spectrum line of a CSV survey also spreads uniformly over its bin width. Power is
    averaged over the spread (the drift is slow against the harvester's response, so every quantity
    is computed at each drift position and then averaged).
-2. Travel limit: the proof mass moves by the RMS-equivalent amplitude z = sqrt(sum |z_i|^2) (exact
-   for one tone). Where z would exceed the travel limit at any drift position, the electrical
-   damping is raised until it does not (Mitcheson et al. 2004). For one tone at resonance this gives
+2. Travel limit: the proof mass's peak travel is estimated by :func:`peak_travel_m`, the smaller of
+   the sum of the components' amplitudes (the peak of tones whose frequencies are not in simple
+   ratios) and three times the RMS (a near-Gaussian broadband motion). Where it would exceed the
+   travel limit at any drift position, the electrical damping is raised until it does not
+   (Mitcheson et al. 2004). For one tone at resonance this gives
    P = m zeta_e omega^3 Z_l^2, which tends to 1/2 m Y0 Z_l omega^3 as zeta_m -> 0.
 3. Rectifier: the transducer's peak open-circuit voltage V_oc is proportional to the proof-mass
    displacement (piezo) or velocity (electromagnetic coil EMF), scaled from the stated open-circuit
@@ -73,10 +75,11 @@ from ..vibration_spectrum import (
     spectral_peaks,
     unit_factor,
 )
-from .base import PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
+from .base import PowerLevel, PresetField, SizeKnob, SourceBase, SourceKind, SourceOutput
 
 TWO_PI = 2.0 * math.pi
 SQRT2 = math.sqrt(2.0)
+PEAK_FACTOR = 3.0  # peak over RMS of near-Gaussian random vibration (common practice: 3 sigma)
 
 
 def _iso_velocity_to_accel_rms(velocity_mm_s: float, freq_hz: float) -> float:
@@ -376,6 +379,12 @@ class VibrationSource(SourceBase):
     transduction_v_s_per_m: float | None = quantity(None, "V s/m", "electromagnetic only: coil EMF per m/s "
                                                     "of relative velocity (B l); overrides "
                                                     "open_circuit_v_per_m_s2", gt=0, le=10000)
+    coil_resistance_ohm: float | None = quantity(None, "ohm", "electromagnetic only: resistance of the coil; "
+                                                 "with transduction_v_s_per_m it sets the electrical damping "
+                                                 "and the share of its power lost in the coil", gt=0, le=1e6)
+    load_resistance_ohm: float | None = quantity(None, "ohm", "electromagnetic only: the load the coil works "
+                                                 "into (default: the best one, R_coil + (B l)^2 / c_m)", gt=0,
+                                                 le=1e7)
     diode_drop_v: float = quantity(0.3, "V", "forward drop of one rectifier diode (Schottky 0.2-0.4, "
                                    "silicon 0.6-0.7)", ge=0, le=2, step=0.05)
     reservoir_v: float | Literal["tracked"] = Field("tracked", description="DC reservoir voltage after the "
@@ -434,6 +443,14 @@ class VibrationSource(SourceBase):
                 raise ValueError("spectrum_measure: a PSD is a mean-square density; leave it out")
         if self.transduction_v_s_per_m is not None and self.transducer != "electromagnetic":
             raise ValueError("transduction_v_s_per_m applies to transducer = 'electromagnetic' only")
+        if self.coil_resistance_ohm is not None or self.load_resistance_ohm is not None:
+            if self.transducer != "electromagnetic" or self.transduction_v_s_per_m is None:
+                raise ValueError("coil_resistance_ohm and load_resistance_ohm need transducer = "
+                                 "'electromagnetic' and its transduction_v_s_per_m")
+            if self.coil_resistance_ohm is None:
+                raise ValueError("load_resistance_ohm needs coil_resistance_ohm")
+            if self.electrical_damping_ratio is not None:
+                raise ValueError("give electrical_damping_ratio or the coil and load resistances, not both")
         return self
 
 
@@ -469,16 +486,25 @@ class Harvester:
     diode_drop_v: float = 0.3
     min_input_v: float = 0.0
     reservoir_v: float | None = None
+    zeta_e_max: float = math.inf  # electrical damping with the load shorted (coil resistance alone)
+
+    def load_share(self, zeta_e: float) -> float:
+        """Share of the electrical damping power that reaches the load, R_L / (R_coil + R_L) [-].
+
+        The electrical damping is (B l)^2 / (R_coil + R_L) over 2 m omega_n, so the share is
+        1 - zeta_e / zeta_e_max; 1 without coil resistance."""
+        return max(0.0, 1.0 - zeta_e / self.zeta_e_max) if math.isfinite(self.zeta_e_max) else 1.0
 
 
 @dataclass(frozen=True)
 class RunningPoint:
     """The harvester's state while the machine runs (averaged over frequency drift).
 
-    Attributes: ``power_w`` DC power after the rectifier [W]; ``linear_power_w`` power into the
-    electrical damping before the rectifier [W]; ``dc_v`` reservoir voltage [V] (0 if never
-    conducting); ``open_circuit_v`` mean peak open-circuit voltage [V]; ``zeta_e`` the electrical
-    damping used [-]; ``travel_m`` the largest RMS-equivalent displacement amplitude [m];
+    Attributes: ``power_w`` DC power after the rectifier [W]; ``linear_power_w`` power the load (the
+    rectifier) receives before rectification [W]; ``damping_power_w`` power into the electrical damping
+    [W] (more than ``linear_power_w`` by what a coil's resistance keeps); ``dc_v`` reservoir voltage [V]
+    (0 if never conducting); ``open_circuit_v`` mean peak open-circuit voltage [V]; ``zeta_e`` the
+    electrical damping used [-]; ``travel_m`` the proof mass's peak travel (:func:`peak_travel_m`) [m];
     ``free_travel_m`` what it would be at the stated damping [m]; ``travel_limited``; ``starved_share``
     share of drift positions where V_oc is below the diode drops plus the converter's least input [-].
     """
@@ -492,6 +518,7 @@ class RunningPoint:
     free_travel_m: float
     travel_limited: bool
     starved_share: float
+    damping_power_w: float = 0.0
 
 
 _MAX_CELLS = 400_000
@@ -512,10 +539,10 @@ def _grid_sizes(exc: Excitation, h: Harvester) -> tuple[int, int]:
 
 
 def _component_sums(exc: Excitation, h: Harvester, zeta_e: float, sel: np.ndarray, u: np.ndarray,
-                    s: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+                    s: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Sums over the selected components, per drift position ``u``, of the bin-averaged linear power [W],
-    mean-square displacement [m2] and mean-square velocity [m2/s2]."""
-    power, z2, v2 = np.zeros(u.size), np.zeros(u.size), np.zeros(u.size)
+    squared displacement amplitude [m2], squared velocity amplitude [m2/s2] and displacement amplitude [m]."""
+    power, z2, v2, z1 = np.zeros(u.size), np.zeros(u.size), np.zeros(u.size), np.zeros(u.size)
     idx = np.flatnonzero(sel)
     step = max(1, _MAX_CELLS // (u.size * s.size))
     for start in range(0, idx.size, step):
@@ -529,12 +556,31 @@ def _component_sums(exc: Excitation, h: Harvester, zeta_e: float, sel: np.ndarra
         z = displacement_m(a_pk, f, h.resonant_hz, h.zeta_m + zeta_e)
         z2 += (z * z).mean(axis=2).sum(axis=0)
         v2 += ((TWO_PI * f * z) ** 2).mean(axis=2).sum(axis=0)
-    return power, z2, v2
+        z1 += z.mean(axis=2).sum(axis=0)
+    return power, z2, v2, z1
+
+
+def peak_travel_m(z2_m2: np.ndarray, z1_m: np.ndarray) -> np.ndarray:
+    """Peak proof-mass travel of several sinusoidal components [m].
+
+    Method: the sum of the components' amplitudes is the peak their sum reaches (exactly, over time,
+    for frequencies that are not in simple ratios); for many components of random phase the motion is
+    near Gaussian and its peak is ``PEAK_FACTOR`` times its RMS, sqrt(sum of squared amplitudes / 2).
+    The estimate is the smaller of the two: one tone gives its amplitude, two equal tones twice it, a
+    broad survey spectrum three times its RMS.
+
+    Parameters
+    ----------
+    z2_m2 : sum of squared displacement amplitudes [m2].
+    z1_m : sum of displacement amplitudes [m].
+    """
+    return np.minimum(np.asarray(z1_m), PEAK_FACTOR * np.sqrt(np.asarray(z2_m2) / 2.0))
 
 
 def _sums(exc: Excitation, h: Harvester, zeta_e: float, n_u: int, n_s: int
-          ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Per drift position: linear power [W], sum of mean-square displacement [m2], of velocity [m2/s2].
+          ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Per drift position: linear power [W], sums of squared displacement [m2] and velocity [m2/s2]
+    amplitudes, and the sum of displacement amplitudes [m].
 
     Components far from resonance (beyond 20 bandwidths plus 8 times their spread), where the response is
     smooth, are evaluated at their centre frequency only: the spread changes their small share by ~1 %.
@@ -568,19 +614,23 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
     RunningPoint
     """
     n_u, n_s = _grid_sizes(exc, h)
-    _, z2, _ = _sums(exc, h, h.zeta_e, n_u, n_s)
-    free_travel = math.sqrt(float(z2.max()))
+    _, z2, _, z1 = _sums(exc, h, h.zeta_e, n_u, n_s)
+    free_travel = float(peak_travel_m(z2, z1).max())
     zeta_e = h.zeta_e
     limited = free_travel > h.travel_limit_m
     if limited:
         def excess(ze: float) -> float:
-            return math.sqrt(float(_sums(exc, h, ze, n_u, n_s)[1].max())) / h.travel_limit_m - 1.0
+            _, z2_e, _, z1_e = _sums(exc, h, ze, n_u, n_s)
+            return float(peak_travel_m(z2_e, z1_e).max()) / h.travel_limit_m - 1.0
 
         hi = max(2.0 * h.zeta_e, 1e-3)
-        while excess(hi) > 0:
+        while excess(hi) > 0 and hi < h.zeta_e_max:
             hi *= 4.0
-        zeta_e = brentq(excess, h.zeta_e, hi, xtol=1e-12, rtol=1e-10)
-    power, z2, v2 = _sums(exc, h, zeta_e, n_u, n_s)
+        hi = min(hi, h.zeta_e_max)
+        # with coil resistance, damping above the shorted-load ceiling cannot be had: stop there
+        zeta_e = hi if excess(hi) > 0 else brentq(excess, h.zeta_e, hi, xtol=1e-12, rtol=1e-10)
+    damping, z2, v2, z1 = _sums(exc, h, zeta_e, n_u, n_s)
+    power = damping * h.load_share(zeta_e)  # the coil's resistance keeps the rest
 
     wn = TWO_PI * h.resonant_hz
     if h.transducer == "electromagnetic":
@@ -594,10 +644,11 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
     return RunningPoint(
         power_w=float(dc_p.mean()),
         linear_power_w=float(power.mean()),
+        damping_power_w=float(damping.mean()),
         dc_v=float(dc_v[conducting].mean()) if conducting.any() else 0.0,
         open_circuit_v=float(v_oc.mean()),
         zeta_e=float(zeta_e),
-        travel_m=math.sqrt(float(z2.max())),
+        travel_m=float(peak_travel_m(z2, z1).max()),
         free_travel_m=free_travel,
         travel_limited=bool(limited),
         starved_share=float(np.mean(v_oc <= 2.0 * h.diode_drop_v + h.min_input_v)),
@@ -621,14 +672,45 @@ def excitation_of(spec: VibrationSource, ctx: SpotContext) -> Excitation:
     return Excitation(freq, accel, drift, np.zeros(freq.size))
 
 
+def coil_damping(spec: VibrationSource, resonant_hz: float) -> tuple[float, float]:
+    """Electrical damping ratio of an electromagnetic harvester with coil resistance, and its ceiling.
+
+    Method: the coil EMF B l v drives the coil and load resistances in series, so the electrical
+    damping coefficient is c_e = (B l)^2 / (R_coil + R_L) and zeta_e = c_e / (2 m omega_n); the load
+    receives R_L / (R_coil + R_L) of the electrical damping power, the coil's resistance the rest. The
+    default load is the best for the coil, R_L = R_coil + (B l)^2 / c_m with c_m = 2 m omega_n zeta_m
+    (Stephen 2006). The ceiling zeta_e_max is the damping with the load shorted.
+
+    Returns
+    -------
+    (zeta_e, zeta_e_max) : [-]
+
+    References
+    ----------
+    Stephen, N.G. (2006). On energy harvesting from ambient vibration. J. Sound and Vibration 293,
+    409-425.
+    """
+    m_kg = spec.proof_mass_g * 1e-3
+    wn = TWO_PI * resonant_hz
+    bl2 = float(spec.transduction_v_s_per_m) ** 2
+    r_coil = float(spec.coil_resistance_ohm)
+    c_m = 2.0 * m_kg * wn * spec.mechanical_damping_ratio
+    r_load = spec.load_resistance_ohm if spec.load_resistance_ohm is not None else r_coil + bl2 / c_m
+    return bl2 / (r_coil + r_load) / (2.0 * m_kg * wn), bl2 / r_coil / (2.0 * m_kg * wn)
+
+
 def harvester_of(spec: VibrationSource, resonant_hz: float) -> Harvester:
     """The harvester's parameters in SI for a given resonant frequency."""
+    zeta_e, zeta_e_max = (spec.electrical_damping_ratio if spec.electrical_damping_ratio is not None
+                          else spec.mechanical_damping_ratio), math.inf
+    if spec.coil_resistance_ohm is not None:
+        zeta_e, zeta_e_max = coil_damping(spec, resonant_hz)
     return Harvester(
         mass_kg=spec.proof_mass_g * 1e-3,
         resonant_hz=resonant_hz,
         zeta_m=spec.mechanical_damping_ratio,
-        zeta_e=(spec.electrical_damping_ratio if spec.electrical_damping_ratio is not None
-                else spec.mechanical_damping_ratio),
+        zeta_e=zeta_e,
+        zeta_e_max=zeta_e_max,
         travel_limit_m=spec.travel_limit_mm * 1e-3,
         transducer=spec.transducer,
         open_circuit_v_per_m_s2=spec.open_circuit_v_per_m_s2,
@@ -712,6 +794,9 @@ def vibration_output(spec: VibrationSource, ctx: SpotContext) -> SourceOutput:
         resonant_hz = float(spec.resonant_frequency_hz)
     h = harvester_of(spec, resonant_hz)
     point = running_point(exc, h)
+    if math.isfinite(h.zeta_e_max):
+        notes.append(f"The coil keeps {1 - h.load_share(point.zeta_e):.0%} of the electrical power "
+                     f"(R_coil {spec.coil_resistance_ohm:g} ohm); the load receives the rest.")
 
     if point.travel_limited:
         notes.append(f"The proof mass would travel {point.free_travel_m * 1e3:.3g} mm against its "
@@ -738,9 +823,11 @@ def vibration_output(spec: VibrationSource, ctx: SpotContext) -> SourceOutput:
         notes.append("The machine never runs by its schedule: nothing is harvested.")
     on = running.astype(float)
     power = on * point.power_w * spec.running_fraction
+    machine = PowerLevel(on * point.power_w, on * point.dc_v, on * spec.running_fraction)
     return SourceOutput(
         power_w=power,
         voltage_v=on * point.dc_v,
+        levels=[machine],
         details={
             "machine_running": on,
             "open_circuit_v": on * point.open_circuit_v,
@@ -762,6 +849,7 @@ __all__ = [
     "displacement_m",
     "half_power_bandwidth_hz",
     "optimum_power_w",
+    "peak_travel_m",
     "quality_factor",
     "rectified_power_w",
     "resonant_power_w",
