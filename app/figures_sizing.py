@@ -18,7 +18,7 @@ import numpy as np
 import plotly.graph_objects as go
 
 from siteharvest.findings import NO_WAKE_TEXT, case_label
-from siteharvest.sizing import SizingMap, WeatherRisk
+from siteharvest.sizing import SizingMap, WeatherRisk, meets_target
 from siteharvest.sources import SOURCE_KINDS
 
 from .figures import OKABE_ITO, base_layout
@@ -206,7 +206,7 @@ def _deficit_cells(m: SizingMap, ax: _MapAxes) -> go.Heatmap:
     hover = np.empty(ax.dd.shape, dtype=object)
     for i in range(ax.dd.shape[0]):
         for j in range(ax.dd.shape[1]):
-            ok = "meets" if ax.dd[i, j] <= m.target_deficit_days else "misses"
+            ok = "meets" if meets_target(ax.dd[i, j], ax.fw[i, j], m.target_deficit_days) else "misses"
             hover[i, j] = (f"{ax.h_name}: {_q(ax.hs[i], ax.h_unit)}<br>{ax.s_name}: {_q(ax.ss[j], ax.s_unit)}<br>"
                            f"<b>{int(ax.dd[i, j])} deficit days</b> ({ok} the target)<br>{_wake_text(ax.fw[i, j])}")
     return go.Heatmap(

@@ -7,7 +7,7 @@ from typing import Any
 import numpy as np
 
 from siteharvest.assess import Assessment, CaseResult
-from siteharvest.findings import case_findings, case_label, headline, weather_warning
+from siteharvest.findings import NEEDS_SURVEY, case_findings, case_label, headline, weather_warning
 from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 from siteharvest.store import backup_life_text
 
@@ -15,6 +15,7 @@ from .figures import si_scale
 
 VERDICT_ORDER = [words for _, words in VERDICTS] + [INSUFFICIENT, NEVER_STARTS]
 VERDICT_CLASS = {words: f"sh-verdict-{i}" for i, words in enumerate(VERDICT_ORDER)}
+ASSUMED_CLASS = "sh-verdict-assumed"  # a verdict resting on assumed deciding inputs: neutral, dashed
 VERDICT_MEANING = {
     VERDICTS[0][1]: "0 deficit days",
     VERDICTS[1][1]: f"1–{VERDICTS[1][0]}",
@@ -76,8 +77,10 @@ def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
             "longest_outage": str(int(c.longest_outage_hours)),
             "lowest_soc": fmt(c.lowest_soc_pct, 2),
             "backup_life": backup_life_text(c.backup_life_years, shelf_life_years, short=True),
-            "verdict": c.verdict,
-            "verdict_class": VERDICT_CLASS.get(c.verdict, ""),
+            # a pass that rests on assumed inputs is not shown as a pass
+            "verdict": c.verdict + (" (assumed inputs)" if found[c.id].status == NEEDS_SURVEY else ""),
+            "verdict_class": (ASSUMED_CLASS if found[c.id].status == NEEDS_SURVEY
+                              else VERDICT_CLASS.get(c.verdict, "")),
             "status": found[c.id].status,
             "finding": found[c.id].sentence,
         })

@@ -35,6 +35,7 @@ from .sizing import (
     ReportInterval,
     SizingMap,
     WeatherRisk,
+    meets_target,
 )
 from .weather import FarStation
 
@@ -413,7 +414,7 @@ def weather_warning(a: Assessment) -> FarStation | None:
 
 def bigger_store_misses(m: SizingMap) -> bool:
     """Some harvester size meets the target with one store but misses it with a larger one."""
-    meets = m.deficit_days <= m.target_deficit_days
+    meets = meets_target(m.deficit_days, m.first_wake_hours, m.target_deficit_days)
     first = np.where(meets.any(axis=1), meets.argmax(axis=1), meets.shape[1])
     later = np.arange(meets.shape[1])[None, :] > first[:, None]
     return bool((later & ~meets).any())

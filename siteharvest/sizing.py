@@ -140,6 +140,12 @@ class SizingMap:
     smaller_is_more: bool = False
 
     @property
+    def meets(self) -> np.ndarray:
+        """Cells that meet the target: no more deficit days than it allows, and a first wake within the
+        study's 90 days (a node dark for months after installation meets nothing)."""
+        return meets_target(self.deficit_days, self.first_wake_hours, self.target_deficit_days)
+
+    @property
     def pick_at_edge(self) -> bool:
         """The pick sits on the map's smallest row or column: smaller sizes may pass too."""
         if self.pick is None:
@@ -177,6 +183,11 @@ def _round(x: float) -> float:
 
 def _finite(x: float) -> float | None:
     return round(float(x), 3) if np.isfinite(x) else None
+
+
+def meets_target(deficit_days: np.ndarray, first_wake_hours: np.ndarray, target_deficit_days: int) -> np.ndarray:
+    """Where a sizing map meets the target: deficit days within it and a first wake at all (finite)."""
+    return (np.asarray(deficit_days) <= target_deficit_days) & np.isfinite(np.asarray(first_wake_hours, dtype=float))
 
 
 def frontier_and_pick(meets: np.ndarray) -> tuple[list[tuple[int, int]], tuple[int, int] | None]:
@@ -388,7 +399,7 @@ def _map_once(prep: Prepared, index: int, knob: SizeKnob, n_harvester: int, n_st
                     charge_allowed=prep.charge_allowed[order], leak_scale=prep.leak_scale[order],
                     harvest_rows=rows, stop_when_on=True)
     fw = first_wake_hours(wake.on).reshape(n_h, n_s)
-    front, pick = frontier_and_pick(dd <= target)
+    front, pick = frontier_and_pick(meets_target(dd, fw, target))
     at_limit = not _room(spec, knob, float(h_sizes[0]), toward_more=False)
     return SizingMap(spec.id, spec.kind, h_name, h_unit, h_sizes, h_drawn, s_name, s_unit, s_sizes, s_drawn,
                      dd, fw, target, front, pick, bool(at_limit), knob.label, knob.smaller_is_more)

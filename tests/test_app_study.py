@@ -30,7 +30,7 @@ from shared import BASE_SITE
 from siteharvest_app import callbacks as cb
 from siteharvest_app import callbacks_study as cs
 from siteharvest_app import ids
-from siteharvest_app.engine import load_records
+from siteharvest_app.engine import assessment_for, load_records
 from siteharvest_app.factory import create_app
 from siteharvest_app.uploads import upload_store
 
@@ -131,8 +131,12 @@ def test_another_target_moves_the_pick(study):
     spots, key, _ = study
     _, words, _ = cs.sizing_view(ids.TAB_SIZING, "panel", 365, spots, key, {})
     text = text_of(words)
-    # with 365 days allowed every cell passes: the pick is the map's smallest corner, at its edge
-    assert "tried here; the spot's own is 2" in text and "edge of the map" in text
+    # with 365 days allowed every cell that wakes within the study passes: the pick is the least harvester
+    # that does, and the words say whether it sits at the map's edge exactly when it does
+    assert "tried here; the spot's own is 2" in text
+    m, _ = cs.sizing_study(assessment_for(spots[key], None), spots[key], None, "panel", 365)
+    assert m is not None and m.pick is not None and np.isfinite(m.first_wake_hours[m.pick])
+    assert ("edge of the map" in text) == m.pick_at_edge
     _, words, _ = cs.sizing_view(ids.TAB_SIZING, "panel", 0, spots, key, {})
     assert "the target of at most 0 (tried here" in text_of(words)
     fig, words, style = cs.sizing_view(ids.TAB_SIZING, "panel", 3.5, spots, key, {})
@@ -198,7 +202,8 @@ def test_a_spot_that_cannot_be_simulated_explains_in_both_views(study):
 
 def test_bigger_store_doing_worse_is_spotted():
     def grid(rows):
-        return SimpleNamespace(deficit_days=np.array(rows), target_deficit_days=1)
+        dd = np.array(rows)
+        return SimpleNamespace(deficit_days=dd, first_wake_hours=np.full(dd.shape, 24.0), target_deficit_days=1)
 
     assert bigger_store_misses(grid([[9, 0, 0, 5], [9, 9, 0, 0]]))  # passes, then misses with more store
     assert not bigger_store_misses(grid([[9, 1, 0, 0], [9, 9, 9, 9]]))

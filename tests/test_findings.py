@@ -20,7 +20,15 @@ from siteharvest_app.tables import portfolio_row
 from siteharvest import findings as F
 from siteharvest.assess import COMBINED_ID, assess
 from siteharvest.site import dump_site, load_site, parse_site, parse_site_text
-from siteharvest.sizing import TASK_COSTLIEST, TASK_NAMED, ReportInterval, SizingMap, frontier_and_pick, report_task
+from siteharvest.sizing import (
+    TASK_COSTLIEST,
+    TASK_NAMED,
+    ReportInterval,
+    SizingMap,
+    frontier_and_pick,
+    meets_target,
+    report_task,
+)
 
 THREE = """
 [spot]
@@ -282,3 +290,20 @@ def test_case_labels_and_demand():
     # 1 Wh = 3600 J (definition); monthly sums add up to the year
     assert d.annual_energy_wh == pytest.approx(a.prepared.demand_j.sum() / 3600.0)
     assert d.monthly_energy_wh.sum() == pytest.approx(d.annual_energy_wh)
+
+
+def test_a_size_that_never_wakes_within_the_study_is_no_pick():
+    """0 deficit days in the steady year but no first wake within 90 days of installation meets nothing."""
+    dd = np.array([[0, 0], [0, 0]])
+    fw = np.array([[np.nan, 40.0], [20.0, 10.0]])
+    meets = meets_target(dd, fw, 0)
+    assert meets.tolist() == [[False, True], [True, True]]
+    assert frontier_and_pick(meets)[1] == (0, 1)
+
+
+def test_a_pass_on_assumed_inputs_is_not_shown_as_a_pass(three):
+    from siteharvest_app.tables import ASSUMED_CLASS, VERDICT_CLASS, summary_rows
+
+    rows = {r["id"]: r for r in summary_rows(three)[0]}
+    assert rows["vibe"]["verdict_class"] == ASSUMED_CLASS and "assumed inputs" in rows["vibe"]["verdict"]
+    assert rows["pipe-teg"]["verdict_class"] == VERDICT_CLASS[rows["pipe-teg"]["verdict"]]
