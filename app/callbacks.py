@@ -508,36 +508,52 @@ def dismiss_problem(n_clicks: int | None) -> str:
 
 def register(app: dash.Dash) -> None:
     """Wire every callback to ``app`` (never to the global registry)."""
-    field_all = {"type": ids.FIELD_TYPE, "path": ALL, "role": ALL}
-    msg_all = {"type": ids.FIELD_MSG_TYPE, "path": ALL}
-    group_all = {"type": ids.GROUP_TYPE, "key": ALL}
-    spectrum_all = {"type": ids.SPECTRUM_UPLOAD_TYPE, "path": ALL}
-    spectrum_msg_all = {"type": ids.SPECTRUM_MSG_TYPE, "path": ALL}
+    _wire_editor(app)
+    _wire_files(app)
+    _wire_results(app)
+    _wire_portfolio(app)
+    callbacks_study.register(app)
 
+
+FIELD_ALL = {"type": ids.FIELD_TYPE, "path": ALL, "role": ALL}
+FIELD_MSG_ALL = {"type": ids.FIELD_MSG_TYPE, "path": ALL}
+GROUP_ALL = {"type": ids.GROUP_TYPE, "key": ALL}
+SPECTRUM_ALL = {"type": ids.SPECTRUM_UPLOAD_TYPE, "path": ALL}
+SPECTRUM_MSG_ALL = {"type": ids.SPECTRUM_MSG_TYPE, "path": ALL}
+ACTION_ALL = {"type": ids.ACTION_TYPE, "action": ALL, "path": ALL}
+
+
+def _wire_editor(app: dash.Dash) -> None:
+    """The editor: its rebuild, one field's edit, and the add and remove buttons."""
     app.callback(
         Output(ids.EDITOR, "children"), Output(ids.EDITOR_MSG, "children", allow_duplicate=True),
         Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
         Input(ids.SPOT_PICKER, "value"), Input(ids.FORM_REV, "data"),
-        State(ids.SPOTS, "data"), State(ids.SESSION, "data"), State(group_all, "open"), State(group_all, "id"),
+        State(ids.SPOTS, "data"), State(ids.SESSION, "data"), State(GROUP_ALL, "open"), State(GROUP_ALL, "id"),
         prevent_initial_call=True,
     )(render_editor_cb)
-
     app.callback(
-        Output(ids.SPOTS, "data", allow_duplicate=True), Output(msg_all, "children"),
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(FIELD_MSG_ALL, "children"),
         Output(ids.FORM_REV, "data", allow_duplicate=True),
-        Input(field_all, "value"),
-        State(msg_all, "id"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FORM_REV, "data"),
+        Input(FIELD_ALL, "value"),
+        State(FIELD_MSG_ALL, "id"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
+        State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(edit_field)
-
     app.callback(
         Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
         Output(ids.EDITOR_MSG, "children", allow_duplicate=True),
-        Input({"type": ids.ACTION_TYPE, "action": ALL, "path": ALL}, "n_clicks"),
-        State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.FORM_REV, "data"),
+        Input(ACTION_ALL, "n_clicks"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
+        State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(edit_structure)
 
+
+def _wire_files(app: dash.Dash) -> None:
+    """Files in and out: the page's session token, weather and spectrum uploads, site files opened and saved."""
+    app.clientside_callback(ClientsideFunction("siteharvest", "newSession"),
+                            Output(ids.SESSION, "data"), Input(ids.SESSION, "modified_timestamp"),
+                            State(ids.SESSION, "data"))
     app.callback(
         Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.WEATHER_UPLOAD_MSG, "children"),
         Output(ids.EDITOR_NOTE, "children", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
@@ -546,16 +562,14 @@ def register(app: dash.Dash) -> None:
         State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(upload_weather)
-
     app.callback(
-        Output(ids.SPOTS, "data", allow_duplicate=True), Output(spectrum_msg_all, "children"),
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(SPECTRUM_MSG_ALL, "children"),
         Output(ids.EDITOR_NOTE, "children", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
-        Input(spectrum_all, "contents"), State(spectrum_all, "filename"), State(spectrum_msg_all, "id"),
+        Input(SPECTRUM_ALL, "contents"), State(SPECTRUM_ALL, "filename"), State(SPECTRUM_MSG_ALL, "id"),
         State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(upload_spectrum)
-
     app.callback(
         Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
         Output(ids.SITE_UPLOAD_MSG, "children"),
@@ -563,21 +577,18 @@ def register(app: dash.Dash) -> None:
         State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"), State(ids.SESSION, "data"),
         prevent_initial_call=True,
     )(upload_site)
-
     app.callback(
         Output(ids.SITE_DOWNLOAD, "data"),
         Input(ids.SITE_DOWNLOAD_BUTTON, "n_clicks"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
         prevent_initial_call=True,
     )(download_site)
 
-    app.clientside_callback(ClientsideFunction("siteharvest", "newSession"),
-                            Output(ids.SESSION, "data"), Input(ids.SESSION, "modified_timestamp"),
-                            State(ids.SESSION, "data"))
 
+def _wire_results(app: dash.Dash) -> None:
+    """The results of the chosen spot and case, the spot picker's list, and the problem line's dismissal."""
     app.callback(Output(ids.SPOT_PICKER, "options"), Input(ids.SPOTS, "data"))(picker_options)
     app.callback(Output(ids.PROBLEM, "children", allow_duplicate=True), Input(ids.PROBLEM_CLOSE, "n_clicks"),
                  prevent_initial_call=True)(dismiss_problem)
-
     app.callback(
         Output(ids.STATUS, "children"), Output(ids.SUMMARY, "children"), Output(ids.CAUTIONS, "children"),
         Output(ids.NOTES, "children"), Output(ids.FIG_SOURCES, "figure"),
@@ -585,7 +596,6 @@ def register(app: dash.Dash) -> None:
         Input(ids.SPOTS, "data"), Input(ids.SPOT_PICKER, "value"),
         State(ids.SESSION, "data"), State(ids.CASE_PICKER, "value"),
     )(recompute)
-
     app.callback(
         Output(ids.FIG_YEAR, "figure"), Output(ids.FIG_CALENDAR, "figure"), Output(ids.FIG_WEEK, "figure"),
         Output(ids.WEEK_CAPTION, "children"),
@@ -593,15 +603,15 @@ def register(app: dash.Dash) -> None:
         State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
     )(case_views)
 
+
+def _wire_portfolio(app: dash.Dash) -> None:
+    """The portfolio grid, and opening the spot chosen in it."""
     app.callback(
         Output(ids.PORTFOLIO_TABLE, "rowData"),
         Input(ids.TABS, "value"), Input(ids.SPOTS, "data"), State(ids.SESSION, "data"),
     )(portfolio)
-
     app.callback(
         Output(ids.SPOT_PICKER, "value", allow_duplicate=True), Output(ids.PORTFOLIO_TABLE, "selectedRows"),
         Input(ids.PORTFOLIO_TABLE, "selectedRows"),
         prevent_initial_call=True,
     )(open_from_portfolio)
-
-    callbacks_study.register(app)

@@ -33,6 +33,7 @@ from siteharvest.sizing import (
     stops_in_outage,
     weather_risk,
 )
+from siteharvest.sources import SOURCE_KINDS
 
 from . import ids
 from .engine import (
@@ -112,16 +113,45 @@ def sync_target(key: str, spots: dict[str, Any], shown_for: list[Any] | None) ->
 
 
 def sizing_study(a: Assessment, record: dict[str, Any], session: str | None, case_id: str,
-                 target: int) -> tuple[SizingMap | None, ReportInterval | None]:
-    """The sizing map (single sources only) and the fastest sustainable reporting, memoised."""
+                 target: int, *, knob: str | None = None, task: str | None = None,
+                 ) -> tuple[SizingMap | None, ReportInterval | None]:
+    """The sizing map (single sources only) and the fastest sustainable reporting, memoised.
+
+    ``knob`` is the size the map varies (None: the kind's default), ``task`` the task whose interval the
+    reporting search varies (None: the library's choice)."""
     def make() -> tuple[SizingMap | None, ReportInterval | None]:
         prep = a.prepared
         m = None if case_id == COMBINED_ID else sizing_map(prep, case_id, n_harvester=SIZING_STEPS,
-                                                             n_store=SIZING_STEPS, max_deficit_days=target)
-        return m, report_interval(prep, case_id, max_deficit_days=target)
+                                                             n_store=SIZING_STEPS, max_deficit_days=target,
+                                                             knob=knob)
+        return m, report_interval(prep, case_id, max_deficit_days=target, task=task)
 
-    key = _key("sizing", content_key(record, session), case_id, target, SIZING_STEPS)
+    key = _key("sizing", content_key(record, session), case_id, target, SIZING_STEPS, knob, task)
     return SIZING_STUDIES.get_or_make(key, make)
+
+
+def study_choices(key: str, case_id: str | None, spots: dict[str, Any], knob: str | None,
+                  task: str | None) -> tuple[list[dict[str, str]], str, list[dict[str, str]], str]:
+    """The sizes the chosen source can vary and the spot's tasks, for the two pickers of the sizing view.
+
+    Returns (knob options, knob value, task options, task value); a choice the spot no longer has goes back
+    to the default ("": the kind's first knob, the task the library picks)."""
+    if not spots or key not in spots:
+        raise PreventUpdate
+    site = spots[key].get("site") or {}
+    source = next((s for s in site.get("source") or [] if isinstance(s, dict) and s.get("id") == case_id), None)
+    knobs: list[dict[str, str]] = []
+    if source is not None and source.get("kind") in SOURCE_KINDS:
+        record = SOURCE_KINDS[source["kind"]]
+        knobs = [{"label": k.label + (" (default)" if n == 0 else ""), "value": "" if n == 0 else k.field}
+                 for n, k in enumerate(record.size_knobs)]
+    if not knobs:
+        knobs = [{"label": "choose a single source above", "value": ""}]
+    names = [str(t.get("name")) for t in (site.get("node") or {}).get("task") or [] if isinstance(t, dict)]
+    tasks = [{"label": "the report task (chosen for you)", "value": ""}] + [{"label": n, "value": n} for n in names]
+    knob_value = knob if knob in {o["value"] for o in knobs} else ""
+    task_value = task if task in {o["value"] for o in tasks} else ""
+    return knobs, knob_value, tasks, task_value
 
 
 def sizing_words(a: Assessment, case: CaseResult, m: SizingMap | None, iv: ReportInterval | None,
@@ -159,7 +189,7 @@ def _open_view_record(tab: str | None, view: str, spots: dict[str, Any], key: st
 
 
 def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[str, Any], key: str,
-                session: str | None) -> tuple[Any, Any, Any]:
+                session: str | None, *, knob: str | None = None, task: str | None = None) -> tuple[Any, Any, Any]:
     """The sizing map of the chosen source and its plain-words line (only while the tab is open).
 
     Returns (figure, words, style of the figure: hidden when there is no map to draw).
@@ -175,7 +205,7 @@ def sizing_view(tab: str | None, case_id: str | None, target: Any, spots: dict[s
                                  className="sh-msg"), no_update
     case = find_case(a, case_id)
     try:
-        m, iv = sizing_study(a, record, session, case.id, t)
+        m, iv = sizing_study(a, record, session, case.id, t, knob=knob or None, task=task or None)
     except (SiteInputError, ValueError, KeyError) as exc:
         return (empty_figure("no sizing map", 520),
                 html.P(f"The sizing study could not be run: {_problem(exc)}", className="sh-msg"), HIDDEN)
@@ -381,10 +411,22 @@ def register(app: dash.Dash) -> None:
     )(sync_target)
 
     app.callback(
+        Output(ids.SIZING_KNOB, "options"), Output(ids.SIZING_KNOB, "value"),
+        Output(ids.SIZING_TASK, "options"), Output(ids.SIZING_TASK, "value"),
+        Input(ids.SPOT_PICKER, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.SPOTS, "data"),
+        State(ids.SIZING_KNOB, "value"), State(ids.SIZING_TASK, "value"),
+    )(study_choices)
+
+    def sizing_view_cb(tab: str | None, case_id: str | None, target: Any, knob: str | None, task: str | None,
+                       spots: dict[str, Any], key: str, session: str | None) -> tuple[Any, Any, Any]:
+        return sizing_view(tab, case_id, target, spots, key, session, knob=knob, task=task)
+
+    app.callback(
         Output(ids.FIG_SIZING, "figure"), Output(ids.SIZING_TEXT, "children"), Output(ids.FIG_SIZING, "style"),
         Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.SIZING_TARGET, "value"),
+        Input(ids.SIZING_KNOB, "value"), Input(ids.SIZING_TASK, "value"),
         State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
-    )(sizing_view)
+    )(sizing_view_cb)
 
     app.callback(
         Output(ids.RISK_TABLE, "children"), Output(ids.FIG_RISK, "figure"), Output(ids.FIG_RISK_ALL, "figure"),

@@ -90,6 +90,14 @@ def sizing_tab() -> dcc.Tab:
                     after="deficit days a year (starts at the spot's own; press Enter to apply)",
                     hint="starts at the spot's own target (run.target_deficit_days); try another here"),
         ]),
+        html.Div(className="sh-view-row sh-study-inputs", children=[
+            html.Label("Size to vary", htmlFor=ids.SIZING_KNOB, className="sh-row-title"),
+            dcc.Dropdown(id=ids.SIZING_KNOB, options=[], value="", clearable=False, searchable=False,
+                         className="sh-study-choice"),
+            html.Label("Reporting task to vary", htmlFor=ids.SIZING_TASK, className="sh-row-title"),
+            dcc.Dropdown(id=ids.SIZING_TASK, options=[], value="", clearable=False, searchable=False,
+                         className="sh-study-choice"),
+        ]),
         dcc.Store(id=ids.SIZING_TARGET_FROM, data=None),
         dcc.Loading(**SPINNER, children=html.Div([
             html.Div(id=ids.SIZING_TEXT, className="sh-study-text", role="status"),

@@ -414,3 +414,18 @@ def test_a_count_knob_reads_as_a_count(study):
     n = int(m.harvester_sizes[m.pick[0]])
     assert f"{n} thermoelectric module{'' if n == 1 else 's'} with" in text_of(words)
     assert "modules 1 module" not in text_of(words)
+
+
+def test_the_sizing_view_varies_the_chosen_size_and_task(study):
+    """The pickers list the kind's declared sizes and the spot's tasks; the view passes both to the library."""
+    spots, key, _ = study
+    knobs, knob, tasks, task = cs.study_choices(key, "panel", spots, None, None)
+    assert knobs[0]["value"] == "" and knob == "" and task == ""
+    names = [t["name"] for t in spots[key]["site"]["node"]["task"]]
+    assert [o["value"] for o in tasks[1:]] == names
+    _, _, _, kept = cs.study_choices(key, "panel", spots, None, names[0])
+    assert kept == names[0]
+    _, _, _, dropped = cs.study_choices(key, "panel", spots, None, "a task no longer there")
+    assert dropped == ""
+    _, words, _ = cs.sizing_view(ids.TAB_SIZING, "panel", 0, spots, key, None, task=names[0])
+    assert f"'{names[0]}' (the task chosen)" in text_of(words)
