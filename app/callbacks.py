@@ -28,6 +28,7 @@ from siteharvest.vibration_spectrum import read_spectrum_csv
 from . import callbacks_study, ids
 from .editor import render_editor
 from .engine import (
+    STARTER_SITE,
     assessment_for,
     bundled_files,
     check_weather_text,
@@ -170,12 +171,30 @@ def edit_structure(clicks: list[int | None], key: str, spots: dict[str, Any], re
     if not isinstance(button, dict) or not n or key not in (spots or {}):
         raise PreventUpdate
     record = spots[key]
+    if button["action"] == "remove-source" and len(record["site"].get("source") or []) <= 1:
+        line = LAST_SOURCE_LINE
+        _say_at_foot(line)
+        return no_update, no_update, line
     try:
         candidate = apply_action(record["site"], button["action"], button["path"])
         new_site = _validate(candidate, record)
     except (EditProblem, SiteInputError) as exc:
+        _say_at_foot(_problem_text(exc))
         return no_update, no_update, _problem_text(exc)
     return _with_site(spots, key, new_site), (rev or 0) + 1, ""
+
+
+LAST_SOURCE_LINE = ("A spot needs at least one source: add another source before removing this one "
+                    "(the spot is unchanged).")
+
+
+def _say_at_foot(text: str) -> None:
+    """Also show ``text`` in the line at the foot of the window, which stays in view however far the editor
+    is scrolled (nothing to do outside a Dash request)."""
+    try:
+        dash.set_props(ids.PROBLEM, {"children": text})
+    except MissingCallbackContextException:
+        return
 
 
 def _decode_upload(contents: str | None, filename: str | None) -> tuple[str, str]:
@@ -318,16 +337,45 @@ def upload_site(contents: str | list[str] | None, filenames: str | list[str] | N
     return spots, new_key, " ".join(lines)
 
 
+def saved_filename(spot_name: str) -> str:
+    """A site file's name from the spot's own name: ``Boiler house, east wall`` -> ``boiler-house-east-wall.toml``."""
+    slug = "-".join("".join(c.lower() if c.isalnum() else " " for c in spot_name).split())[:80].strip("-")
+    return f"{slug or 'spot'}.toml"
+
+
 def download_site(n_clicks: int | None, key: str, spots: dict[str, Any]) -> dict[str, str]:
-    """The current spot as a site file (the last good values)."""
+    """The current spot as a site file (the last good values), named after the spot."""
     if not n_clicks or key not in (spots or {}):
         raise PreventUpdate
     record = spots[key]
     spec = parse_site(copy.deepcopy(record["site"]), file=record.get("file") or "<site>")
-    filename = record.get("file") or f"{key}.toml"
-    if not filename.endswith(".toml"):
-        filename += ".toml"
-    return {"content": dump_site(spec), "filename": filename, "type": "application/toml", "base64": False}
+    return {"content": dump_site(spec), "filename": saved_filename(spec.spot.name), "type": "application/toml",
+            "base64": False}
+
+
+def new_spot(n_clicks: int | None, spots: dict[str, Any]) -> tuple[dict[str, Any], str, str]:
+    """A blank spot (one solar panel on a synthetic year) added and shown: (spots, its key, message line)."""
+    if not n_clicks:
+        raise PreventUpdate
+    spots = dict(spots or {})
+    key = unique_key("new-spot", spots)
+    spec = parse_site(copy.deepcopy(STARTER_SITE), file=f"{key}.toml", files=ListedFiles({}))
+    spots[key] = record_from_spec(spec, key, f"{key}.toml")
+    return spots, key, "A new spot on a synthetic year: set its place, its node, its store and its sources."
+
+
+def duplicate_spot(n_clicks: int | None, key: str, spots: dict[str, Any]) -> tuple[dict[str, Any], str, str]:
+    """A copy of the spot shown, with its files, added and shown: (spots, the copy's key, message line)."""
+    if not n_clicks or key not in (spots or {}):
+        raise PreventUpdate
+    spots = dict(spots)
+    record = copy.deepcopy(spots[key])
+    new_key = unique_key(f"{key}-copy", spots)
+    name = str(record["site"]["spot"].get("name", key))
+    record["site"]["spot"]["name"] = (name + " (copy)")[:200]
+    record["key"], record["file"] = new_key, saved_filename(record["site"]["spot"]["name"])
+    spots[new_key] = record
+    return spots, new_key, f"Copied '{name}': the copy is shown; the original is unchanged."
 
 
 def picker_options(spots: dict[str, Any]) -> list[dict[str, str]]:
@@ -582,6 +630,18 @@ def _wire_files(app: dash.Dash) -> None:
         Input(ids.SITE_DOWNLOAD_BUTTON, "n_clicks"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
         prevent_initial_call=True,
     )(download_site)
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
+        Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
+        Input(ids.NEW_SPOT_BUTTON, "n_clicks"), State(ids.SPOTS, "data"),
+        prevent_initial_call=True,
+    )(new_spot)
+    app.callback(
+        Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.SPOT_PICKER, "value", allow_duplicate=True),
+        Output(ids.EDITOR_NOTE, "children", allow_duplicate=True),
+        Input(ids.DUPLICATE_SPOT_BUTTON, "n_clicks"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
+        prevent_initial_call=True,
+    )(duplicate_spot)
 
 
 def _wire_results(app: dash.Dash) -> None:

@@ -607,7 +607,9 @@ def apply_action(site: dict[str, Any], action: str, path: str) -> dict[str, Any]
         n = 1
         while f"{kind.replace('_', '-')}-{n}" in taken:
             n += 1
-        new = {"id": f"{kind.replace('_', '-')}-{n}", "kind": kind, **copy.deepcopy(NEW_SOURCE.get(kind, {}))}
+        name = SOURCE_KINDS[kind].name if kind in SOURCE_KINDS else kind
+        new = {"id": f"{kind.replace('_', '-')}-{n}", "kind": kind, "label": f"new {name} {n}",
+               **copy.deepcopy(NEW_SOURCE.get(kind, {}))}
         candidate.setdefault("source", []).append(new)
     elif action.startswith("add-item:"):
         name = action.split(":", 1)[1]

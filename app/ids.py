@@ -112,3 +112,5 @@ def dom_id(component_id: dict[str, str] | str) -> str:
     return "{" + ",".join(f"{json.dumps(k)}:{json.dumps(component_id[k])}" for k in sorted(component_id)) + "}"
 PROBLEM = "sh-problem"  # a line at the foot of the window when a request fails unexpectedly
 PROBLEM_CLOSE = "sh-problem-close"
+NEW_SPOT_BUTTON = "sh-new-spot"
+DUPLICATE_SPOT_BUTTON = "sh-duplicate-spot"

@@ -87,6 +87,13 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
     ])
     editor = html.Aside(className="sh-editor-pane", children=[
         html.H2("The spot"),
+        html.Div(className="sh-spot-actions", children=[
+            html.Button("New blank spot", id=ids.NEW_SPOT_BUTTON, n_clicks=0, className="sh-button sh-small",
+                        type="button", title="a spot with one solar panel on a synthetic year, to fill in"),
+            html.Button("Duplicate this spot", id=ids.DUPLICATE_SPOT_BUTTON, n_clicks=0,
+                        className="sh-button sh-small", type="button",
+                        title="a copy of the spot shown, to try a change beside the original"),
+        ]),
         html.P("Every field of the site file, grouped by what it describes. Press Enter or leave a field "
                "to apply it; a value that does not fit is explained beside it and the results keep the "
                "last good spot.", className="sh-note"),
@@ -151,8 +158,9 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
         ]),
     ])
     return html.Div(className="sh-app", children=[
-        dcc.Store(id=ids.SPOTS, data=spots),
-        dcc.Store(id=ids.SESSION, data=None),
+        # kept in the tab's session storage: a reload keeps the spots as edited (and their uploads)
+        dcc.Store(id=ids.SPOTS, data=spots, storage_type="session"),
+        dcc.Store(id=ids.SESSION, data=None, storage_type="session"),
         dcc.Store(id=ids.FORM_REV, data=0),
         header,
         html.Main(className="sh-main", children=[editor, results]),

@@ -269,7 +269,7 @@ def test_site_file_download_then_upload_round_trips(four):
     spots, key = four
     changed, _, _ = edit(spots, key, "source.0.tilt_deg", "float", "62.5")
     download = cb.download_site(1, key, changed)
-    assert download["filename"] == "four.toml"
+    assert download["filename"] == "four-source-check-spot.toml"  # after the spot, not the file it came from
     new_spots, new_key, message = cb.upload_site(upload(download["content"]), download["filename"], key, changed)
     assert new_key != key and "Opened" in message
     assert new_spots[new_key]["site"] == changed[key]["site"]

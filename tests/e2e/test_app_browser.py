@@ -10,6 +10,7 @@ from pathlib import Path
 
 import pytest
 from playwright.sync_api import Page, expect
+from siteharvest_app.callbacks import saved_filename
 from siteharvest_app.tables import summary_rows
 
 from siteharvest.assess import assess
@@ -198,7 +199,7 @@ def test_site_file_download_and_load_back(watched_page: Page, tmp_path: Path):
     with page.expect_download() as info:
         page.get_by_role("button", name="Save as site file").click()
     download = info.value
-    assert download.suggested_filename == SAMPLES[0].name
+    assert download.suggested_filename == saved_filename(FIRST.spot.name)  # named after the spot
     saved = tmp_path / download.suggested_filename
     download.save_as(saved)
     text = saved.read_text(encoding="utf-8")

@@ -93,3 +93,17 @@ def test_a_hostile_site_file_gets_one_line_in_the_page(watched_page: Page, case:
     assert "\n" not in message.inner_text() and "Traceback" not in message.inner_text()
     expect(page.locator(".sh-status-name")).to_have_text(before)
     expect(page.locator("#sh-problem")).to_have_text("")
+
+
+def test_a_reload_keeps_the_edits_and_a_new_spot_can_be_made(watched_page: Page):
+    page = watched_page
+    name = page.locator("#sh-editor input[name='spot.name']")
+    name.fill("Edited before a reload")
+    name.press("Enter")
+    expect(page.locator(".sh-status-name")).to_have_text("Edited before a reload")
+    page.reload()
+    expect(page.locator(".sh-status-name")).to_have_text("Edited before a reload")
+    page.get_by_role("button", name="New blank spot").click()
+    expect(page.locator(".sh-status-name")).to_contain_text("new spot")
+    page.get_by_role("button", name="Duplicate this spot").click()
+    expect(page.locator(".sh-status-name")).to_contain_text("(copy)")
