@@ -2,16 +2,23 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from typing import Any
 
 import numpy as np
 
 from siteharvest.assess import Assessment, CaseResult
-from siteharvest.findings import NEEDS_SURVEY, case_findings, case_label, headline, weather_warning
+from siteharvest.findings import (
+    NEEDS_SURVEY,
+    case_findings,
+    case_label,
+    headline,
+    outage_text,
+    sig_text,
+    weather_warning,
+)
 from siteharvest.metrics import INSUFFICIENT, NEVER_STARTS, VERDICTS
 from siteharvest.store import backup_life_text
-
-from .figures import si_scale
 
 VERDICT_ORDER = [words for _, words in VERDICTS] + [INSUFFICIENT, NEVER_STARTS]
 VERDICT_CLASS = {words: f"sh-verdict-{i}" for i, words in enumerate(VERDICT_ORDER)}
@@ -38,11 +45,12 @@ SUMMARY_COLUMNS = [
 
 
 def fmt(x: float | None, digits: int = 3) -> str:
+    """``digits`` significant figures, never in exponent form (100, not 1e+02); ``—`` if not a number."""
     if x is None or not np.isfinite(x):
         return "—"
-    if x == 0:
-        return "0"
-    return f"{x:.{digits}g}" if abs(x) < 10 ** digits else f"{x:,.0f}"
+    if abs(x) >= 10 ** digits:
+        return f"{x:,.0f}"
+    return sig_text(x, digits)
 
 
 def first_wake_text(hours: float) -> str:
@@ -57,11 +65,20 @@ def case_name(c: CaseResult) -> str:
     return case_label(c.id)
 
 
+def energy_unit(values_wh: Iterable[float]) -> tuple[float, str]:
+    """One energy unit for a whole column: Wh, unless even the largest value is under 1 Wh (then mWh).
+
+    Every row of a table shares it; values print with :func:`fmt` (three significant figures, grouped
+    thousands), so a large yield reads 12,300 Wh rather than switching to kWh."""
+    largest = max((abs(v) for v in values_wh if np.isfinite(v)), default=0.0)
+    return (1.0, "Wh") if largest >= 1.0 or largest == 0 else (1e-3, "mWh")
+
+
 def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
     """One row per source and one for all together; and the unit of the energy column."""
     cases = a.cases
     shelf_life_years = a.backup.shelf_life_years
-    factor, unit = si_scale(max((c.annual_energy_wh for c in cases), default=1.0), "Wh")
+    factor, unit = energy_unit(c.annual_energy_wh for c in cases)
     found = case_findings(a)
     rows = []
     for c in cases:
@@ -74,7 +91,7 @@ def summary_rows(a: Assessment) -> tuple[list[dict[str, Any]], str]:
             "annual_energy": fmt(c.annual_energy_wh / factor),
             "deficit_days": str(int(c.deficit_days)),
             "first_wake": first_wake_text(c.first_wake_hours),
-            "longest_outage": str(int(c.longest_outage_hours)),
+            "longest_outage": outage_text(c),
             "lowest_soc": fmt(c.lowest_soc_pct, 2),
             "backup_life": backup_life_text(c.backup_life_years, shelf_life_years, short=True),
             # a pass that rests on assumed inputs is not shown as a pass

@@ -184,9 +184,13 @@ class Assessment:
                 "monthly_terminal_energy_wh": [round(float(v), 6) for v in monthly_energy_wh(terminal_w)]}
 
     def hourly_frame(self) -> pd.DataFrame:
-        """Hourly series of the steady-state year: demand, and per case power in, stored energy, state."""
+        """Hourly series of the steady-state year: the weather it used (irradiance, air temperature, wind,
+        illuminance where present, each named with its unit), demand, and per case power in, stored energy,
+        state."""
         index = self.prepared.context.index
-        cols: dict[str, np.ndarray] = {"demand_w": self.prepared.demand_j / SECONDS_PER_HOUR}
+        weather = self.prepared.context.weather
+        cols: dict[str, np.ndarray] = {name: weather[name].to_numpy(dtype=float) for name in weather.columns}
+        cols["demand_w"] = self.prepared.demand_j / SECONDS_PER_HOUR
         for case in self.cases:
             if case.terminal is not None:
                 cols[f"{case.id}.terminal_w"] = np.asarray(case.terminal.power_w, dtype=float)

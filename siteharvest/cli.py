@@ -28,7 +28,18 @@ def _fmt(x: float | None, digits: int = 1) -> str:
 
 def format_table(assessment) -> str:
     """A readable comparison table of every source and all sources together."""
-    from .findings import case_findings, demand_summary, headline, source_inputs, weather_warning
+    from .findings import (
+        WHOLE_YEAR,
+        WHOLE_YEAR_MEANING,
+        case_findings,
+        demand_summary,
+        headline,
+        outage_text,
+        place_text,
+        sig_text,
+        source_inputs,
+        weather_warning,
+    )
 
     a = assessment
     spot = a.spec.spot
@@ -36,7 +47,7 @@ def format_table(assessment) -> str:
     top = headline(a, found)
     far = weather_warning(a)
     lines = [
-        f"Spot: {spot.name}  ({spot.latitude_deg:.3f}, {spot.longitude_deg:.3f})",
+        f"Spot: {spot.name}  ({place_text(spot.latitude_deg, spot.longitude_deg)})",
         *([f"WARNING: {far.sentence}"] if far is not None else []),
         f"Node: mean demand {a.mean_power_uw:,.1f} uW  "
         f"({demand_summary(a).annual_energy_wh:,.2f} Wh/yr);  store usable {a.usable_energy_j:,.1f} J",
@@ -51,8 +62,8 @@ def format_table(assessment) -> str:
             "lowest store %", "backup life yr", "verdict", "target"]
     rows = []
     for c in a.cases:
-        rows.append([c.id, c.kind, _fmt(c.annual_energy_wh, 2), str(c.deficit_days),
-                     _fmt(c.first_wake_hours, 0), str(c.longest_outage_hours), _fmt(c.lowest_soc_pct, 0),
+        rows.append([c.id, c.kind, sig_text(c.annual_energy_wh, 3), str(c.deficit_days),
+                     _fmt(c.first_wake_hours, 0), outage_text(c), _fmt(c.lowest_soc_pct, 0),
                      backup_life_text(c.backup_life_years, a.backup.shelf_life_years), c.verdict,
                      found[c.id].status])
     widths = [max(len(r[i]) for r in [head, *rows]) for i in range(len(head))]
@@ -65,6 +76,8 @@ def format_table(assessment) -> str:
     lines.append(line(head))
     lines.append("  ".join("-" * w for w in widths))
     lines.extend(line(r) for r in rows)
+    if any(r[5] == WHOLE_YEAR for r in rows):
+        lines.append(f"Longest outage {WHOLE_YEAR_MEANING}.")
     surveys = [si.sentence for si in map(source_inputs, a.spec.source) if si.needs_survey]
     if surveys:
         lines += ["", "Needs a survey:"] + [f"  - {t}" for t in surveys]
@@ -245,20 +258,53 @@ def cmd_serve(args: argparse.Namespace) -> int:
                  password_file=args.password_file)
 
 
+EXAMPLES = {
+    "assess": ["siteharvest assess sample_sites/plant-room.toml",
+               "siteharvest assess sample_sites/plant-room.toml --json > plant-room.json",
+               "siteharvest assess sample_sites/plant-room.toml --hourly plant-room.hourly.csv"],
+    "size": ["siteharvest size sample_sites/plant-room.toml",
+             "siteharvest size sample_sites/plant-room.toml --source motor-casing --max-deficit-days 5",
+             "siteharvest size sample_sites/plant-room.toml --years 0 --steps 12 --json"],
+    "report": ["siteharvest report sample_sites/plant-room.toml -o plant-room.pdf",
+               "siteharvest report sample_sites -o plant.pdf            (a portfolio of every spot in the folder)",
+               "siteharvest report sample_sites/plant-room.toml -o plant-room.html --no-sizing --risk-years 0"],
+    "schema": ["siteharvest schema > site.schema.json"],
+    "serve": ["siteharvest serve",
+              "siteharvest serve sample_sites --port 8060",
+              "siteharvest serve sites/ --host 0.0.0.0 --password-file pw.txt --workers 4"],
+}
+
+
+def _sub(sub, name: str, **kwargs) -> argparse.ArgumentParser:
+    """A subcommand whose help ends with its examples."""
+    epilog = "examples:\n" + "\n".join(f"  {x}" for x in EXAMPLES[name])
+    return sub.add_parser(name, epilog=epilog, formatter_class=argparse.RawDescriptionHelpFormatter, **kwargs)
+
+
 def build_parser() -> argparse.ArgumentParser:
+    from . import __version__
+
     parser = argparse.ArgumentParser(
         prog="siteharvest",
-        description="Can a wireless sensor node at this spot run all year on harvested energy?")
+        description="Can a wireless sensor node at this spot run all year on harvested energy?",
+        epilog="examples:\n  siteharvest assess sample_sites/plant-room.toml\n"
+               "  siteharvest report sample_sites/plant-room.toml -o plant-room.pdf\n"
+               "  siteharvest <command> --help    (each command's options and examples)",
+        formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--version", action="version", version=f"siteharvest {__version__}",
+                        help="print the version and exit")
     sub = parser.add_subparsers(dest="command", required=True)
-    p = sub.add_parser("assess", help="simulate a spot's year and compare its sources")
+    p = _sub(sub, "assess", help="simulate a spot's year and compare its sources")
     p.add_argument("site", help="site file (.toml)")
-    p.add_argument("--json", action="store_true", help="print the results as JSON")
-    p.add_argument("--hourly", metavar="FILE.csv", help="write the hourly series of the year to a CSV file")
+    p.add_argument("--json", action="store_true", help="print the results as JSON (default: a text table)")
+    p.add_argument("--hourly", metavar="FILE.csv",
+                   help="also write the hourly series of the year, with the weather it used, to a CSV file "
+                   "(default: none written)")
     p.set_defaults(func=cmd_assess)
-    p = sub.add_parser("size", help="what harvester and store sizes meet the target, how often the node can "
+    p = _sub(sub, "size", help="what harvester and store sizes meet the target, how often the node can "
                        "report, and how sure that is over many weather years")
     p.add_argument("site", help="site file (.toml)")
-    p.add_argument("--source", metavar="ID", help="only this source (default: each)")
+    p.add_argument("--source", metavar="ID", help="only this source (default: each source of the site)")
     # Options are read as text and bounded in cmd_size, so a bad value gets one line (not usage + error).
     p.add_argument("--max-deficit-days", default=None, metavar="N",
                    help="target: at most N deficit days a year, 0..365 (default: the site's run.target_deficit_days)")
@@ -277,30 +323,31 @@ def build_parser() -> argparse.ArgumentParser:
                    "(default 0)")
     p.add_argument("--outage-days", default=3.0, metavar="DAYS",
                    help="mean length of an outage [days], 0..90 (default 3)")
-    p.add_argument("--json", action="store_true", help="print the results as JSON")
+    p.add_argument("--json", action="store_true", help="print the results as JSON (default: sentences)")
     p.set_defaults(func=cmd_size)
-    p = sub.add_parser("report", help="write a feasibility report (PDF or HTML) for a spot, or for a folder of "
+    p = _sub(sub, "report", help="write a feasibility report (PDF or HTML) for a spot, or for a folder of "
                        "spots as a portfolio, with each spot's hourly series as CSV beside it")
     p.add_argument("site", help="site file (.toml), or a folder of them for a portfolio")
     p.add_argument("-o", "--output", required=True, metavar="OUT.pdf",
-                   help="the report to write: .pdf or .html")
-    p.add_argument("--no-sizing", action="store_true", help="leave out the sizing study")
+                   help="the report to write: .pdf or .html (required; no default)")
+    p.add_argument("--no-sizing", action="store_true", help="leave out the sizing study (default: included)")
     p.add_argument("--risk-years", type=int, default=200, metavar="N",
                    help="resampled weather years for the weather risk (0 to skip; default 200)")
     p.add_argument("--sizing-steps", type=int, default=24, metavar="N",
                    help="sizes tried along each axis of a sizing map (default 24)")
-    p.add_argument("--no-hourly", action="store_true", help="do not write the hourly CSV files")
+    p.add_argument("--no-hourly", action="store_true",
+                   help="do not write the hourly CSV files (default: written beside the report)")
     p.set_defaults(func=cmd_report)
-    p = sub.add_parser("schema", help="print the JSON Schema of the site file")
+    p = _sub(sub, "schema", help="print the JSON Schema of the site file")
     p.set_defaults(func=cmd_schema)
-    p = sub.add_parser("serve", help="start the dashboard (default: the bundled sample spots)",
+    p = _sub(sub, "serve", help="start the dashboard (default: the bundled sample spots)",
                        description="Serve the dashboard on a production WSGI server (waitress; gunicorn with "
                        "--workers). An address other than loopback needs a password: $SITEHARVEST_PASSWORD or "
                        "--password-file; a password given on loopback is asked for too.")
-    p.add_argument("paths", nargs="*", help="site files or folders of them")
-    p.add_argument("--host", default="127.0.0.1",
+    p.add_argument("paths", nargs="*", help="site files or folders of them (default: the bundled sample spots)")
+    p.add_argument("--host", default="127.0.0.1", metavar="ADDRESS",
                    help="address to listen on (default 127.0.0.1: this machine only; another needs a password)")
-    p.add_argument("--port", type=int, default=8050, help="port to listen on (default 8050)")
+    p.add_argument("--port", type=int, default=8050, metavar="N", help="port to listen on (default 8050)")
     p.add_argument("--workers", type=int, default=1, metavar="N",
                    help="worker processes (default 1: one waitress process; N > 1 runs gunicorn, Linux only)")
     p.add_argument("--password-file", metavar="FILE",

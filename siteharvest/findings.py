@@ -73,10 +73,43 @@ def unit_text(unit: str, integer: bool = False) -> str:
     return UNIT_TEXT.get(unit, unit)
 
 
+def sig_text(x: float, digits: int = 3) -> str:
+    """``digits`` significant figures, never in exponent form: 100, 2,000, 0.0123 (``-`` if not finite)."""
+    x = float(x)
+    if not math.isfinite(x):
+        return "-"
+    if x == 0:
+        return "0"
+    text = np.format_float_positional(x, precision=digits, unique=False, fractional=False, trim="-")
+    whole, dot, frac = text.partition(".")
+    return f"{int(whole):,}{dot}{frac}" if whole.lstrip("-").isdigit() and abs(x) >= 1000 else text
+
+
+def _degrees(value: float, positive: str, negative: str) -> str:
+    return f"{abs(value):.3f}° {positive if value >= 0 else negative}"
+
+
+def place_text(latitude_deg: float, longitude_deg: float) -> str:
+    """A place as printed: ``48.100° N, 160.500° W`` (south and west for negative degrees)."""
+    return f"{_degrees(latitude_deg, 'N', 'S')}, {_degrees(longitude_deg, 'E', 'W')}"
+
+
+WHOLE_YEAR = "whole year"
+WHOLE_YEAR_MEANING = "whole year: the node never wakes from an empty store, so it is off all year"
+
+
+def outage_text(case: CaseResult) -> str:
+    """The longest outage after first wake in hours, or :data:`WHOLE_YEAR` for a case that never wakes
+    (the number in the JSON is then 0: there is no outage *after* a first wake)."""
+    if not math.isfinite(case.first_wake_hours):
+        return WHOLE_YEAR
+    return f"{int(case.longest_outage_hours):,}"
+
+
 def size_text(value: float, unit: str, field: str = "") -> str:
     """A harvester or store size with its unit (``3 modules``, ``6.17 cm²``, ``0.47 F``)."""
     shown = unit_text(unit, integer=float(value).is_integer())
-    text = f"{value:.3g}"
+    text = sig_text(value, 3)
     if shown == "count":
         one, many = COUNT_NOUNS.get(field, ("unit", "units"))
         return f"{text} {one if value == 1 else many}"

@@ -267,8 +267,10 @@ def test_html_opens_offline_without_errors_or_requests(corridor_html, offline_br
     page = offline_page(offline_browser, problems)
     page.goto(corridor_html.as_uri())
     page.wait_for_load_state("load")
-    # monthly, calendar, worst week, store across the year, weather risk (both sources pass: no sizing map)
-    assert page.locator("figure svg").count() == 5
+    # monthly, calendar, worst week, weather risk (both sources pass: no sizing map); the store across the
+    # year is a sentence, as the beam keeps it full all year (one solid colour as a picture)
+    assert page.locator("figure svg").count() == 4
+    assert page.get_by_text("The store barely moves all year").is_visible()
     assert page.locator("table.results tbody tr").count() == 3
     assert page.locator("script").count() == 0
     assert page.get_by_text("Download this site file").is_visible()
@@ -500,3 +502,22 @@ def test_build_report_returns_html_bytes_for_a_spec(site_file):
     html = build_report(spec, fmt="html", sizing=False, risk_years=0).decode("utf-8")
     assert html.startswith("<!DOCTYPE html>") and "test spot" in html
     assert "The sizing study was not run" in html and "The weather-risk study was not run" in html
+
+
+def test_page_one_carries_the_decision_and_a_sign_off(plant_pdf):
+    """Answer, what to fit, what it takes, how sure, the cautions and the sign-off lines on page 1."""
+    first = PdfReader(str(plant_pdf)).pages[0].extract_text()
+    for words in ("Not as drawn", "What to fit", "What it takes", "How sure", "P90", "Safety", "Prepared by",
+                  "Checked by", "Date"):
+        assert words in first, words
+    assert "79.950° W" in first and "° E" not in first  # the sample's longitude is negative: west
+
+
+def test_appendix_prints_arrays_on_one_line(plant_text):
+    """The site file's curves read as one line each, not one number per line."""
+    from siteharvest_app.report.html import compact_toml
+
+    text = ('a = [\n    [\n        1.0,\n        0.2,\n    ],\n    [\n        10.0,\n        0.35,\n    ],\n]\n'
+            'b = "x [y"\n')
+    assert compact_toml(text) == 'a = [[1.0, 0.2], [10.0, 0.35]]\nb = "x [y"\n'
+    assert "efficiency_curve = [[" in plant_text

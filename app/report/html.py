@@ -25,18 +25,26 @@ from siteharvest.assess import Assessment, CaseResult
 from siteharvest.fields import bounds_of
 from siteharvest.findings import (
     PICK_RULE,
+    WHOLE_YEAR,
+    WHOLE_YEAR_MEANING,
     case_findings,
     demand_summary,
     drawn_cell,
     interval_finding,
     interval_text,
+    outage_text,
+    place_text,
+    risk_findings,
     size_text,
     sizing_finding,
     source_inputs,
     weather_warning,
 )
+from siteharvest.findings import (
+    case_label as case_label_of,
+)
 from siteharvest.sizing import SizingMap
-from siteharvest.store import backup_life_text
+from siteharvest.store import backup_life_text, store_levels
 from siteharvest.timegrid import REFERENCE_YEAR
 
 from ..figures import (
@@ -178,6 +186,49 @@ def answer_sentence(study: SpotStudy) -> str:
     return out
 
 
+def decision_block(study: SpotStudy) -> str:
+    """Page 1's decision: what to fit, what it takes, how sure, the cautions in short (the findings' words)."""
+    a, top = study.assessment, study.headline
+    assert a is not None and top is not None
+    case_id = top.source.id if top.source is not None else top.case.id
+    rows: list[tuple[str, str]] = []
+    m = study.maps.get(case_id)
+    fit = f"{case_label_of(case_id)} as drawn"
+    if m is not None:
+        f = sizing_finding(m, next((c for c in a.cases if c.id == case_id), None))
+        if not f.meets_as_drawn:
+            fit = (f"{case_label_of(case_id)}: {f.pick_text}" if f.pick is not None
+                   else f"{case_label_of(case_id)}: nothing in the sizing map meets the target")
+        rows.append(("What to fit", fit))
+        rows.append(("What it takes", " ".join(x for x in (f.drawn_sentence, f.pick_sentence, f.edge_sentence) if x)))
+    else:
+        rows.append(("What to fit", fit))
+        rows.append(("What it takes", "The sizing study was not run for this report."
+                     if not study.sizing_error else f"The sizing study could not be run: {study.sizing_error}"))
+    risks = risk_findings(study.risk) if study.risk is not None else {}
+    if case_id in risks:
+        r = risks[case_id]
+        rows.append(("How sure", f"In nine weather years in ten (P90 over {r.years} resampled years) "
+                     f"{case_label_of(case_id)} has at most {r.p90:.0f} deficit days a year "
+                     f"(target: at most {study.target}); P50 {r.p50:.0f}, P99 {r.p99:.0f}."))
+    else:
+        rows.append(("How sure", "The weather-risk study was not run for this report."
+                     if not study.risk_error else f"The weather-risk study could not be run: {study.risk_error}"))
+    rows.append(("Safety", "; ".join(c.title for c in a.cautions) + " (see Safety)." if a.cautions
+                 else "No particular caution applies; local codes and site rules come first."))
+    body = "".join(f"<dt>{e(k)}</dt><dd>{e(v)}</dd>" for k, v in rows)
+    return f'<dl class="decision">{body}</dl>'
+
+
+SIGN_OFF = ("Prepared by", "Checked by", "Date")
+
+
+def sign_off_block() -> str:
+    """Blank lines for the names and date of whoever prepared and checked the report."""
+    cells = "".join(f'<div><span class="line"></span><span class="what">{e(w)}</span></div>' for w in SIGN_OFF)
+    return f'<div class="signoff">{cells}</div>'
+
+
 def results_section(study: SpotStudy) -> str:
     a = study.assessment
     assert a is not None
@@ -186,7 +237,7 @@ def results_section(study: SpotStudy) -> str:
     for c in a.cases:
         rows.append([case_label(c), c.kind if c.kind != "combined" else "-", c.verdict,
                      found[c.id].status, fmt_energy_wh(c.annual_energy_wh),
-                     str(c.deficit_days), fmt_hours(c.first_wake_hours), f"{c.longest_outage_hours:,}",
+                     str(c.deficit_days), fmt_hours(c.first_wake_hours), outage_text(c),
                      backup_life_text(c.backup_life_years, a.backup.shelf_life_years)])
     demand_wh = demand_summary(a).annual_energy_wh
     backup = (f"{a.backup.cell} ({'assumed reference cell' if a.backup_is_assumed else 'as named in the site file'})")
@@ -204,7 +255,7 @@ def results_section(study: SpotStudy) -> str:
             "(<code>run.target_deficit_days</code>), with a first wake; <em>needs a survey</em>: it would meet "
             "the target, but an input that decides its yield is assumed (see <em>The spot and every input</em>). "
             "First wake: hours from installation with an empty store; longest outage: hours off in a row after "
-            "that.</p>")
+            f"that ({e(WHOLE_YEAR_MEANING)}).</p>")
 
 
 def monthly_section(study: SpotStudy, svg: SvgMaker) -> str:
@@ -232,14 +283,40 @@ def year_section(study: SpotStudy, svg: SvgMaker) -> str:
     # a little shorter than on screen, so that a page holds more (figures with no legend below the plot)
     cal.update_layout(height=390)
     year.update_layout(height=370)
+    outage = outage_text(case)
+    outage = f"{outage} h" if outage != WHOLE_YEAR else WHOLE_YEAR_MEANING
+    flat = flat_store_text(a, case)
+    year_part = (f"<p>{e(flat)}</p>" if flat else
+                 figure(svg(year, f"Energy in the store across the year, {case.id}"),
+                        "Stored energy by day (across) and hour (up); darkest is the node's cut-off."))
     return (f'<div class="keep"><h2>The year with {e(case.id)}</h2>'
             f"<p>The best single source, shown hour by hour. Deficit days: {case.deficit_days}; "
-            f"longest outage after first wake: {case.longest_outage_hours:,} h.</p>"
+            f"longest outage after first wake: {e(outage)}.</p>"
             + figure(svg(cal, f"Deficit calendar, {case.id}"),
                      "Each square is a day; crossed squares are deficit days.") + "</div>"
             + figure(svg(week, f"Worst week, {case.id}"), f"The worst week: {caption}.")
-            + figure(svg(year, f"Energy in the store across the year, {case.id}"),
-                     "Stored energy by day (across) and hour (up); darkest is the node's cut-off."))
+            + year_part)
+
+
+FLAT_SHARE = 0.05  # a stored-energy range under this share of cut-off..full draws as one colour
+
+
+def flat_store_text(a: Assessment, case: CaseResult) -> str:
+    """A sentence in place of the hour-by-hour store picture when it would be a single colour (the store
+    never reaches the cut-off, or barely moves all year); empty when the picture says something."""
+    levels = store_levels(a.spec.store)
+    stored = np.asarray(case.stored_energy_j, dtype=float)
+    lo, hi = float(stored.min()), float(stored.max())
+    span = max(levels.max_j - levels.cutoff_j, 1e-12)
+    where = (f"{fmt_sig(lo, 3)} to {fmt_sig(hi, 3)} J; cut-off {fmt_sig(levels.cutoff_j, 3)} J, "
+             f"full {fmt_sig(levels.max_j, 3)} J")
+    if hi <= levels.cutoff_j:
+        return (f"The store stays below the node's cut-off all year ({where}), so the hour-by-hour picture of "
+                "the store would be a single colour and is left out.")
+    if hi - lo < FLAT_SHARE * span:
+        return (f"The store barely moves all year ({where}), so the hour-by-hour picture of the store would be a "
+                "single colour and is left out.")
+    return ""
 
 
 def _pick_text(m: SizingMap) -> str:
@@ -405,7 +482,52 @@ def appendix_section(study: SpotStudy) -> str:
             "inputs. The inputs' SHA-256 covers this text and the bytes of every file it names.</p>"
             f'<p class="screen-only"><a download="{e(stem)}.toml" href="data:text/plain;charset=utf-8;base64,'
             f'{b64}">Download this site file</a></p>'
-            + file_table + f'<pre class="site">{e(text)}</pre></section>')
+            + file_table + f'<pre class="site">{e(compact_toml(text))}</pre></section>')
+
+
+def compact_toml(text: str) -> str:
+    """TOML with each multi-line array folded onto one line (``[[1.0, 0.2], [10.0, 0.35]]``), so the
+    appendix does not print one number per line; strings and comments are kept as written."""
+    out: list[str] = []
+    buf: list[str] = []
+    depth = 0
+    for line in text.splitlines():
+        if depth == 0:
+            depth = _bracket_depth(line)
+            if depth > 0 and "=" in line:
+                buf = [line.rstrip()]
+                continue
+            depth = 0
+            out.append(line)
+            continue
+        buf.append(line.strip())
+        depth += _bracket_depth(line)
+        if depth <= 0:
+            depth = 0
+            joined = " ".join(buf)
+            joined = re.sub(r"\[\s+", "[", joined)
+            joined = re.sub(r",?\s*\]", "]", joined)
+            out.append(joined)
+            buf = []
+    out.extend(buf)
+    return "\n".join(out) + ("\n" if text.endswith("\n") else "")
+
+
+def _bracket_depth(line: str) -> int:
+    """Open brackets minus closed ones in a line, outside strings and comments."""
+    depth, quote = 0, ""
+    for ch in line:
+        if quote:
+            quote = "" if ch == quote else quote
+        elif ch in "\"'":
+            quote = ch
+        elif ch == "#":
+            break
+        elif ch == "[":
+            depth += 1
+        elif ch == "]":
+            depth -= 1
+    return depth
 
 
 def spot_header(study: SpotStudy, generated: str, level: str = "h1") -> str:
@@ -413,7 +535,7 @@ def spot_header(study: SpotStudy, generated: str, level: str = "h1") -> str:
     assert spec is not None
     spot = spec.spot
     where = spot.name
-    place = (f"{spot.latitude_deg:.3f}° N, {spot.longitude_deg:.3f}° E, {spot.altitude_m:g} m; "
+    place = (f"{place_text(spot.latitude_deg, spot.longitude_deg)}, {spot.altitude_m:g} m; "
              f"{'indoors' if spot.indoors else 'outdoors'}, mounted at {spot.mounting_height_m:g} m; "
              f"local standard time UTC{spot.utc_offset_h:+g} h")
     meta = [("Prepared", generated), ("siteharvest", siteharvest.__version__),
@@ -424,7 +546,8 @@ def spot_header(study: SpotStudy, generated: str, level: str = "h1") -> str:
             f"<{level}>{e(where)}</{level}>"
             f'<p class="question">{e(QUESTION.format(where=where))}</p>'
             f'<p class="place">{e(place)}</p>{notes}<dl class="meta">{dl}</dl></header>'
-            f'<div class="answer"><p>{answer_sentence(study)}</p></div>')
+            f'<div class="answer"><p>{answer_sentence(study)}</p>{decision_block(study)}</div>'
+            + sign_off_block())
 
 
 def early_sections(study: SpotStudy, svg: SvgMaker) -> dict[str, str]:
@@ -535,6 +658,12 @@ dl.meta { display: grid; grid-template-columns: max-content 1fr; gap: 0 8pt; fon
 dl.meta dt { font-weight: bold; } dl.meta dd { margin: 0; word-break: break-all; }
 .answer { border: 1.5pt solid #111; padding: 5pt 8pt; margin: 8pt 0; break-inside: avoid; }
 .answer p { margin: 0; font-size: 10.5pt; }
+dl.decision { display: grid; grid-template-columns: max-content 1fr; gap: 2pt 8pt; margin: 5pt 0 0;
+  padding-top: 4pt; border-top: 0.8pt solid #111; font-size: 9pt; }
+dl.decision dt { font-weight: bold; } dl.decision dd { margin: 0; }
+.signoff { display: flex; gap: 10mm; margin: 6pt 0 4pt; break-inside: avoid; }
+.signoff div { flex: 1; } .signoff .line { display: block; border-bottom: 0.8pt solid #111; height: 14pt; }
+.signoff .what { font-size: 8pt; color: #333; }
 .answer p.warn { margin-top: 4pt; padding-top: 3pt; border-top: 0.8pt solid #111; font-size: 9.5pt; }
 table { border-collapse: collapse; width: 100%; font-size: 8pt; margin: 4pt 0 6pt; }
 th, td { border: 0.5pt solid #666; padding: 1.5pt 3.5pt; text-align: left; vertical-align: top; }
