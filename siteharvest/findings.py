@@ -493,8 +493,9 @@ class SizingFinding:
                             self.frontier_sentence) if s]
 
 
-def _harvester_text(m: SizingMap, i: int) -> str:
-    n = m.harvester_sizes[i]
+def _harvester_text(m: SizingMap, i: int | None = None) -> str:
+    """The harvester's size in plain words; ``i`` a map row, None the size as drawn."""
+    n = m.harvester_drawn if i is None else m.harvester_sizes[i]
     if m.harvester_field == "modules":
         return f"{n:.3g} thermoelectric module{'' if n == 1 else 's'}"
     return f"{_harvester_name(m)} {size_text(n, m.harvester_unit, m.harvester_field)}"
@@ -508,8 +509,8 @@ def _store_name(m: SizingMap) -> str:
     return STORE_LABELS.get(m.store_field, m.store_field.replace("_", " ")).lower()
 
 
-def _store_text(m: SizingMap, j: int) -> str:
-    return f"{_store_name(m)} {size_text(m.store_sizes[j], m.store_unit)}"
+def _store_text(m: SizingMap, j: int | None = None) -> str:
+    return f"{_store_name(m)} {size_text(m.store_drawn if j is None else m.store_sizes[j], m.store_unit)}"
 
 
 def _pair(m: SizingMap, i: int, j: int) -> str:
@@ -531,7 +532,8 @@ def sizing_finding(m: SizingMap, case: CaseResult | None = None, own_target: int
     tried = "" if own_target is None or own_target == target else f" (tried here; the spot's own is {own_target})"
     drawn_text = (f"{size_text(m.harvester_drawn, m.harvester_unit, m.harvester_field)} + "
                   f"{size_text(m.store_drawn, m.store_unit)}")
-    drawn_sentence = (f"As drawn ({drawn_text}), {m.source_id} has {_days(drawn_dd)} a year: it "
+    drawn_sentence = (f"As drawn ({_harvester_text(m)} with {_store_text(m)}), {m.source_id} has "
+                      f"{_days(drawn_dd)} a year: it "
                       f"{MEETS if meets else MISSES} the target of at most {target}{tried}.")
     top = (f"{size_text(m.harvester_sizes[-1], m.harvester_unit, m.harvester_field)} and "
            f"{size_text(m.store_sizes[-1], m.store_unit)}")

@@ -96,3 +96,4 @@ def test_size_text_output_uses_plain_labels(capsys):
     assert code == 0
     assert "capacitance_f" not in out and "capacity_mah" not in out and "area_cm2" not in out
     assert "supercapacitor capacitance" in out
+    assert "As drawn (1 thermoelectric module with supercapacitor capacitance 2 F)" in out  # the sample as written
