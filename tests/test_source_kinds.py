@@ -85,7 +85,8 @@ def test_editor_shows_the_new_kind(test_cell):
     assert power.unit == "uW" and power.bounds == "> 0, ≤ 1000000" and power.label == "power"
     assert ("add-source:test_cell", "add a test cell") in groups["test"].add_actions
     added = apply_action(SITE, "add-source:test_cell", "source")
-    assert added["source"][-1] == {"id": "test-cell-1", "kind": "test_cell", "power_uw": 25.0}
+    assert added["source"][-1] == {"id": "test-cell-1", "kind": "test_cell", "label": "new test cell 1",
+                                   "power_uw": 25.0}  # a name of its own, from the record
 
 
 def test_sizing_map_varies_its_knob(test_cell):
