@@ -19,6 +19,7 @@ from .tables import NOT_ASSESSED, PORTFOLIO_COLUMNS, RANKED, VERDICT_CLASS, VERD
 
 FONT_STACK = ('system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "Noto Sans", "Liberation Sans", '
               'Arial, sans-serif')
+RESULTS_ID = "sh-results"  # the skip link's target
 GRAPH_CONFIG = {"displaylogo": False, "modeBarButtonsToRemove": ["lasso2d", "select2d"],
                 "toImageButtonOptions": {"format": "png", "filename": "siteharvest-figure", "scale": 2}}
 
@@ -102,10 +103,12 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
         html.Div(id=ids.EDITOR, className="sh-editor",
                  children=render_editor(spots[first]["site"], {}, None)),
     ])
-    results = html.Section(className="sh-results", children=[
+    results = html.Section(id=RESULTS_ID, className="sh-results", tabIndex="-1", **{"aria-label": "Results"}, children=[
         dcc.Loading(type="circle", color="#0072B2", delay_show=250, children=html.Div([
             html.Div(id=ids.STATUS, className="sh-status"),
-            html.Div(id=ids.SUMMARY, className="sh-summary"),
+            # the table scrolls sideways in this box on a narrow screen: a stop of its own, so the keys scroll it
+            html.Div(id=ids.SUMMARY, className="sh-summary", tabIndex="0", role="region",
+                     **{"aria-label": "Summary of the sources"}),
         ])),
         html.Div([_legend(), html.Div(id=ids.NOTES, className="sh-notes")], className="sh-under-table"),
         html.Div(id=ids.CAUTIONS, className="sh-cautions"),
@@ -162,6 +165,7 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
         dcc.Store(id=ids.SPOTS, data=spots, storage_type="session"),
         dcc.Store(id=ids.SESSION, data=None, storage_type="session"),
         dcc.Store(id=ids.FORM_REV, data=0),
+        html.A("Skip to the results", href=f"#{RESULTS_ID}", className="sh-skip"),
         header,
         html.Main(className="sh-main", children=[editor, results]),
         html.Footer(className="sh-foot", children=[

@@ -72,7 +72,7 @@ def test_served_page_draws_every_view_under_the_policy(browser: Browser, url: st
         saved = tmp_path / info.value.suggested_filename
         info.value.save_as(saved)
         assert "[spot]" in saved.read_text(encoding="utf-8")
-        button = page.get_by_role("button", name="Download report (HTML)")
+        button = page.get_by_role("button", name="Download report as HTML")
         with page.expect_download(timeout=120_000) as info:
             button.click()
             expect(page.locator("#sh-report-busy")).to_contain_text("queued while another is made")

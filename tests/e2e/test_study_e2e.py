@@ -85,7 +85,7 @@ def test_report_pdf_download(watched_page: Page, tmp_path: Path, artifacts: Path
 def test_portfolio_report_html_download(watched_page: Page, tmp_path: Path, artifacts: Path):
     page = watched_page
     page.locator(".sh-tab", has_text="Portfolio").click()
-    button = page.get_by_role("button", name="Download the portfolio report (HTML)")
+    button = page.get_by_role("button", name="Download the portfolio report as HTML")
     with page.expect_download(timeout=120_000) as info:
         button.click()
         expect(page.locator("#sh-portfolio-busy")).to_contain_text("Preparing the portfolio report")
