@@ -1,8 +1,9 @@
 """The verdict badges' colours, read from the dashboard's style sheet: apart from one another under simulated
 colour blindness, and their text legible on them.
 
-Simulation: colour-science's ``matrix_cvd_Machado2009`` (a physiologically based model of anomalous trichromacy,
-applied to linear sRGB) at full severity, which stands for protanopia, deuteranopia and tritanopia. Distance:
+Simulation: colour-science's ``matrix_cvd_Machado2009`` (Machado, Oliveira & Fernandes 2009, IEEE Trans.
+Visualization and Computer Graphics 15(6): a physiologically based model of anomalous trichromacy, applied to
+linear sRGB) at full severity, which stands for protanopia, deuteranopia and tritanopia. Distance:
 CIEDE2000 in CIELAB (D65), computed by colour-science. Contrast: the WCAG 2.1 contrast ratio (relative luminance
 of sRGB, success criterion 1.4.3, level AA: at least 4.5:1 for normal text).
 """
@@ -17,6 +18,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from siteharvest_app.tables import ASSUMED_CLASS, VERDICT_CLASS
+from validation import external_check
 
 ROOT = Path(__file__).resolve().parents[1]
 CSS = (ROOT / "assets" / "siteharvest.css").read_text(encoding="utf-8")
@@ -88,6 +90,8 @@ def test_every_badge_has_its_own_colours_and_shape():
     assert len(set(shapes)) == len(BADGES), shapes
 
 
+@external_check(area="dashboard", quantity="contrast of verdict badge text on its background", value=">= 4.5:1",
+                source="WCAG 2.1 success criterion 1.4.3 (AA) and its contrast-ratio definition", tolerance="none")
 @pytest.mark.parametrize("cls", BADGES)
 def test_badge_text_meets_wcag_aa_contrast(cls: str):
     background, text = colours(cls)
@@ -100,6 +104,10 @@ def test_contrast_formula_on_known_pairs():
     assert contrast(_hex("#777777"), _hex("#777777")) == pytest.approx(1.0)
 
 
+@external_check(area="dashboard", quantity="verdict badges apart under simulated protan, deutan and tritan vision",
+                value=f"CIEDE2000 >= {MIN_DELTA_E:g} between every pair (our threshold)",
+                source="Machado, Oliveira & Fernandes (2009) simulation matrices at full severity, via colour-science",
+                tolerance="none")
 @pytest.mark.parametrize("deficiency", ["none", *DEFICIENCIES])
 def test_badges_stay_apart_under_colour_blindness(colour, deficiency: str):
     if deficiency == "none":

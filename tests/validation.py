@@ -28,6 +28,7 @@ AREAS = {
     "kernel": "Kernel and metrics",
     "weather": "Weather files and synthetic weather",
     "sizing": "Sizing",
+    "dashboard": "Dashboard legibility",
 }
 
 _F = TypeVar("_F", bound=Callable)
