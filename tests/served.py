@@ -87,3 +87,13 @@ def callback_body(dep: dict[str, Any], values: dict[str, Any], changed: str) -> 
 
     return {"output": dep["output"], "outputs": outputs if len(outputs) > 1 else outputs[0],
             "inputs": fill(dep["inputs"]), "state": fill(dep["state"]), "changedPropIds": [changed]}
+
+
+def record_problems(page: Any) -> list[str]:
+    """Console errors, page errors and requests leaving this machine, as they happen on a Playwright ``page``."""
+    problems: list[str] = []
+    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}") if m.type == "error" else None)
+    page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
+    page.on("request", lambda r: problems.append(f"request off this machine: {r.url}")
+            if not r.url.startswith(("http://127.0.0.1", "data:", "blob:")) else None)
+    return problems

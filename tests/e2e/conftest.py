@@ -12,6 +12,7 @@ from pathlib import Path
 
 import pytest
 from playwright.sync_api import expect
+from served import record_problems
 from siteharvest_app.factory import create_app
 from werkzeug.serving import make_server
 
@@ -64,11 +65,7 @@ def artifacts() -> Path:
 @pytest.fixture
 def watched_page(page, app_url):
     """The page, with console errors, page errors and requests leaving this machine recorded and checked."""
-    problems: list[str] = []
-    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}") if m.type == "error" else None)
-    page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
-    page.on("request", lambda r: problems.append(f"request off this machine: {r.url}")
-            if not r.url.startswith(("http://127.0.0.1", "data:", "blob:")) else None)
+    problems = record_problems(page)
     page.goto(app_url)
     expect(page.locator(".sh-table")).to_be_visible()
     yield page

@@ -15,6 +15,7 @@ from pathlib import Path
 
 import pytest
 from playwright.sync_api import Browser, Page, expect
+from served import record_problems
 from siteharvest_app import ids
 from siteharvest_app.fieldspec import group_titles
 
@@ -38,11 +39,7 @@ def _open(browser: Browser, url: str, width: int = 1440, height: int = 900) -> I
     """
     context = browser.new_context(viewport={"width": width, "height": height}, bypass_csp=True)
     page = context.new_page()
-    problems: list[str] = []
-    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}") if m.type == "error" else None)
-    page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
-    page.on("request", lambda r: problems.append(f"request off this machine: {r.url}")
-            if not r.url.startswith(("http://127.0.0.1", "data:", "blob:")) else None)
+    problems = record_problems(page)
     page.goto(url)
     expect(page.locator(".sh-table")).to_be_visible()
     page.wait_for_function(SETTLED)

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 from playwright.sync_api import Browser, Page, expect
-from served import running
+from served import record_problems, running
 from siteharvest_app.factory import create_app
 from siteharvest_app.security import USER
 
@@ -42,13 +42,8 @@ def locked_url() -> Iterator[str]:
 
 
 def watch(page: Page) -> list[str]:
-    problems: list[str] = []
     page.add_init_script(WATCH_CSP)
-    page.on("console", lambda m: problems.append(f"console {m.type}: {m.text}") if m.type == "error" else None)
-    page.on("pageerror", lambda e: problems.append(f"page error: {e}"))
-    page.on("request", lambda r: problems.append(f"request off this machine: {r.url}")
-            if not r.url.startswith(("http://127.0.0.1", "data:", "blob:")) else None)
-    return problems
+    return record_problems(page)
 
 
 def test_served_page_draws_every_view_under_the_policy(browser: Browser, url: str, tmp_path: Path,
