@@ -29,12 +29,17 @@ Canada and northern United States. Solar Energy 53(1), 57-71.
 
 from __future__ import annotations
 
+import hashlib
+import importlib.util
+import os
+import tempfile
 import warnings
+import zipfile
 from functools import cache
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
-import pvlib
 
 from .errors import SiteInputError
 
@@ -85,27 +90,114 @@ def _colour():
     return colour
 
 
+PHOTOPIC_KEY = "photopic_v"
+
+#: Where the CIE tables sampled on :data:`GRID_NM` are kept between runs (beside numba's kernel cache), so
+#: that a run which finds them there imports neither colour-science nor the scipy modules it loads (about a
+#: third of a second); None keeps nothing.
+TABLE_CACHE_DIR: Path | None = Path(__file__).resolve().parent / "__pycache__"
+
+
+def tables_from_colour() -> dict[str, np.ndarray]:
+    """V(lambda) (key :data:`PHOTOPIC_KEY`) and the spectrum of every light source (keys of
+    :data:`LIGHT_SOURCES`) on :data:`GRID_NM`, computed from colour-science's tables; see
+    :func:`photopic_v` and :func:`spectrum`."""
+    colour = _colour()
+    v_sd = colour.colorimetry.SDS_LEFS_PHOTOPIC["CIE 1924 Photopic Standard Observer"]
+    tables = {PHOTOPIC_KEY: np.interp(GRID_NM, v_sd.wavelengths, v_sd.values, left=0.0, right=0.0)}
+    for source, name in LIGHT_SOURCES.items():
+        if name == "A":
+            sd = colour.colorimetry.sd_CIE_standard_illuminant_A(colour.SpectralShape(300, 1200, 5))
+            out = np.interp(GRID_NM, sd.wavelengths, sd.values)
+        else:
+            sd = colour.SDS_ILLUMINANTS[name]
+            out = np.interp(GRID_NM, sd.wavelengths, sd.values, left=0.0, right=0.0)
+            if name == "D65":
+                xy = colour.CCS_ILLUMINANTS["CIE 1931 2 Degree Standard Observer"]["D65"]
+                basis = colour.sd_CIE_illuminant_D_series(xy)
+                last = float(sd.wavelengths[-1])
+                scale = sd[last] / basis[last]
+                tail = (GRID_NM > last) & (GRID_NM <= basis.wavelengths[-1])
+                out[tail] = scale * np.interp(GRID_NM[tail], basis.wavelengths, basis.values)
+        tables[source] = np.asarray(out, dtype=float)
+    return tables
+
+
+def table_cache_file() -> Path | None:
+    """The file the tables are kept in, named after all they depend on: this module's source, the
+    colour-science installed (its path, size and time) and numpy's version. An edit here or another
+    colour-science names another file, so stale tables are never read. None when there is nowhere to keep them."""
+    if TABLE_CACHE_DIR is None:
+        return None
+    try:
+        found = importlib.util.find_spec("colour")  # finds the package without importing it
+        if found is None or found.origin is None:
+            return None
+        stat = os.stat(found.origin)
+        parts = [Path(__file__).read_bytes(), found.origin.encode(), f"{stat.st_size} {stat.st_mtime_ns}".encode(),
+                 np.__version__.encode()]
+    except (OSError, ImportError, ValueError):
+        return None
+    return TABLE_CACHE_DIR / f"photometry-cie.{hashlib.sha256(b'|'.join(parts)).hexdigest()[:20]}.npz"
+
+
+def _read_tables(path: Path) -> dict[str, np.ndarray] | None:
+    try:
+        with np.load(path) as stored:
+            tables = {key: stored[key] for key in stored.files}
+    except (OSError, ValueError, KeyError, zipfile.BadZipFile):
+        return None
+    wanted = {PHOTOPIC_KEY, *LIGHT_SOURCES}
+    ok = set(tables) == wanted and all(t.dtype == float and t.shape == GRID_NM.shape for t in tables.values())
+    return tables if ok else None
+
+
+def _keep_tables(path: Path, tables: dict[str, np.ndarray]) -> None:
+    """Write the tables beside their final name and move them there (a reader sees all or nothing)."""
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=path.stem, suffix=".tmp")
+        try:
+            with os.fdopen(fd, "wb") as f:
+                np.savez(f, **tables)
+            os.replace(tmp, path)
+        finally:
+            if os.path.exists(tmp):
+                os.unlink(tmp)
+    except OSError:
+        pass  # a read-only install: the tables are computed again next time
+
+
 @cache
+def _tables() -> dict[str, np.ndarray]:
+    """The tables, read from :func:`table_cache_file` where they are kept, else computed and kept there."""
+    path = table_cache_file()
+    tables = _read_tables(path) if path is not None and path.is_file() else None
+    if tables is None:
+        tables = tables_from_colour()
+        if path is not None:
+            _keep_tables(path, tables)
+    for table in tables.values():
+        table.setflags(write=False)
+    return tables
+
+
 def photopic_v() -> np.ndarray:
     """CIE 1924 photopic luminous efficiency V(lambda) [-] on :data:`GRID_NM` (zero outside 360-830 nm).
 
-    Sampled from colour-science's 1 nm table ("CIE 1924 Photopic Standard Observer").
+    Sampled from colour-science's 1 nm table ("CIE 1924 Photopic Standard Observer"). Read-only.
     """
-    colour = _colour()
-    v_sd = colour.colorimetry.SDS_LEFS_PHOTOPIC["CIE 1924 Photopic Standard Observer"]
-    out = np.interp(GRID_NM, v_sd.wavelengths, v_sd.values, left=0.0, right=0.0)
-    out.setflags(write=False)
-    return out
+    return _tables()[PHOTOPIC_KEY]
 
 
-@cache
 def spectrum(source: str) -> np.ndarray:
     """Relative spectral irradiance of a light source on :data:`GRID_NM` [W/m2/nm, arbitrary scale].
 
     Method
     ------
     The CIE table for the source's illuminant (colour-science ``SDS_ILLUMINANTS``), linearly
-    interpolated onto the grid. Outside the tabulated range:
+    interpolated onto the grid (:func:`tables_from_colour`, kept between runs in :func:`table_cache_file`).
+    Outside the tabulated range:
 
     - LED and fluorescent illuminants (tabulated 380-780 nm) are taken as zero: their emission
       outside that band is negligible for this purpose;
@@ -128,24 +220,8 @@ def spectrum(source: str) -> np.ndarray:
     ----------
     CIE 015:2018 Colorimetry, 4th ed.
     """
-    name = _check_source(source)
-    colour = _colour()
-    if name == "A":
-        sd = colour.colorimetry.sd_CIE_standard_illuminant_A(colour.SpectralShape(300, 1200, 5))
-        out = np.interp(GRID_NM, sd.wavelengths, sd.values)
-    else:
-        sd = colour.SDS_ILLUMINANTS[name]
-        out = np.interp(GRID_NM, sd.wavelengths, sd.values, left=0.0, right=0.0)
-        if name == "D65":
-            xy = colour.CCS_ILLUMINANTS["CIE 1931 2 Degree Standard Observer"]["D65"]
-            basis = colour.sd_CIE_illuminant_D_series(xy)
-            last = float(sd.wavelengths[-1])
-            scale = sd[last] / basis[last]
-            tail = (GRID_NM > last) & (GRID_NM <= basis.wavelengths[-1])
-            out[tail] = scale * np.interp(GRID_NM[tail], basis.wavelengths, basis.values)
-    out = np.asarray(out, dtype=float)
-    out.setflags(write=False)
-    return out
+    _check_source(source)
+    return _tables()[source]
 
 
 def _band_mask(band_nm: tuple[float, float]) -> np.ndarray:
@@ -284,6 +360,8 @@ def precipitable_water_cm(dew_point_c: np.ndarray | None = None, temp_air_c: np.
     if dew_point_c is not None:
         w = np.exp(0.07 * np.asarray(dew_point_c, dtype=float) - 0.075)
     elif temp_air_c is not None and relative_humidity_pct is not None:
+        import pvlib  # here, not at the top: lamp light alone needs no pvlib
+
         w = np.asarray(pvlib.atmosphere.gueymard94_pw(np.asarray(temp_air_c, dtype=float),
                                                       np.asarray(relative_humidity_pct, dtype=float)))
     else:
@@ -417,6 +495,8 @@ def daylight_illuminance_lx(ghi_w_m2, dni_w_m2, dhi_w_m2, zenith_deg, dni_extra_
     up = ((zenith < 90.0) & (dhi > 0.0) & (extra > 0.0)
           & np.isfinite(ghi) & np.isfinite(dni) & np.isfinite(dhi) & np.isfinite(water))
     zen_up = np.where(up, zenith, 45.0)
+    import pvlib  # here, not at the top: lamp light alone needs no pvlib
+
     airmass = np.asarray(pvlib.atmosphere.get_relative_airmass(zen_up, model="kasten1966"), dtype=float)
     epsilon = perez_sky_clearness(np.where(up, dhi, 1.0), np.where(up, dni, 0.0), zen_up)
     delta = perez_sky_brightness(np.where(up, dhi, 1.0), airmass, np.where(up, extra, 1.0))

@@ -8,7 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-import pvlib
+
+# pvlib is imported in each function: with the scipy modules it pulls in, its import takes about half a
+# second, which a spot that needs no solar geometry does not pay.
 
 #: Solar constant used for extraterrestrial irradiance [W/m2] (Gueymard 2004; pvlib's default).
 SOLAR_CONSTANT_W_M2 = 1366.1
@@ -67,6 +69,8 @@ def sun_position(
     Reda, I. and Andreas, A. (2004). Solar position algorithm for solar radiation applications.
     Solar Energy 76(5), 577-589. doi:10.1016/j.solener.2003.12.003 (NREL/TP-560-34302, rev. 2008).
     """
+    import pvlib
+
     if pressure_pa is None:
         pressure_pa = pvlib.atmosphere.alt2pres(altitude_m)
     kwargs = {} if delta_t_s is None else {"delta_t": float(delta_t_s)}
@@ -114,6 +118,8 @@ def extraterrestrial_normal_w_m2(
     Reda, I. and Andreas, A. (2004). Solar position algorithm for solar radiation applications.
     Solar Energy 76(5), 577-589.
     """
+    import pvlib
+
     if method in ("spencer", "asce") and times.tz is not None:
         # these use the UTC day of year only (as pvlib does for timestamps); passing it directly
         # avoids a pandas accessor that pvlib still calls
@@ -156,5 +162,7 @@ def angle_of_incidence_deg(
     Duffie, J.A. and Beckman, W.A. (2013). Solar Engineering of Thermal Processes, 4th ed., Wiley,
     section 1.6.
     """
+    import pvlib
+
     return np.asarray(pvlib.irradiance.aoi(tilt_deg, azimuth_deg, sun_zenith_deg, sun_azimuth_deg),
                       dtype=float)

@@ -56,7 +56,6 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
-import pvlib
 
 from .timegrid import HOURS_PER_YEAR, SECONDS_PER_HOUR, reference_index
 
@@ -422,6 +421,8 @@ def clear_sky_mid_hour(
     Linke turbidity from pvlib's bundled monthly climatology (``lookup_linke_turbidity``, offline).
     Returns (solar position, clear sky with ``ghi``, ``dni``, ``dhi`` [W/m2]), both indexed by ``index``.
     """
+    import pvlib  # here, not at the top: only a synthetic year needs it from this module
+
     mid = index + pd.Timedelta(minutes=30)
     pressure_pa = pvlib.atmosphere.alt2pres(altitude_m)
     pos = pvlib.solarposition.get_solarposition(mid, latitude_deg, longitude_deg, altitude=altitude_m,
@@ -472,6 +473,8 @@ def synthetic_year(
     ----------
     See the module docstring.
     """
+    import pvlib
+
     clearness, temps, _ = seasonal_inputs(spec, latitude_deg)
     kt = daily_clearness(clearness, 1, seed=spec.seed)[0]
     index = reference_index(utc_offset_h)

@@ -26,6 +26,7 @@ the file, the column and what was expected.
 
 from __future__ import annotations
 
+import importlib.util
 import io
 import math
 import re
@@ -36,7 +37,6 @@ from typing import Annotated, Any, Literal
 
 import numpy as np
 import pandas as pd
-import pvlib
 from pydantic import Field, SerializerFunctionWrapHandler, field_validator, model_serializer, model_validator
 
 from .errors import SiteInputError
@@ -338,6 +338,15 @@ def _header_number(text: str | float, key: str, name: str, line: int, shown: str
     return value
 
 
+# TMY3 column as written -> pvlib's name for it, as pvlib.iotools.tmy.VARIABLE_MAP has them
+# (tests/test_lazy_imports.py checks the two agree), held here so that reading a TMY3 file imports no pvlib.
+TMY3_VARIABLE_MAP: dict[str, str] = {
+    "GHI (W/m^2)": "ghi", "ETR (W/m^2)": "ghi_extra", "DNI (W/m^2)": "dni", "ETRN (W/m^2)": "dni_extra",
+    "DHI (W/m^2)": "dhi", "Pressure (mbar)": "pressure", "Wdir (degrees)": "wind_direction",
+    "Wspd (m/s)": "wind_speed", "Dry-bulb (C)": "temp_air", "Dew-point (C)": "temp_dew",
+    "RHum (%)": "relative_humidity", "Alb (unitless)": "albedo", "Pwat (cm)": "precipitable_water",
+}
+
 # TMY3 (pvlib names after map_variables) -> (our name, column as written in the file, scale to SI)
 _TMY3_COLUMNS: dict[str, tuple[str, str, float]] = {
     "ghi": ("ghi_w_m2", "GHI (W/m^2)", 1.0),
@@ -414,7 +423,7 @@ def _tmy3_frame(path: Path, name: str) -> tuple[pd.DataFrame, dict[str, float]]:
                         "a TMY3 station line: USAF, name, state, TZ, latitude, longitude, altitude", 1)
     frame = _table("\n".join(lines[1:]), name, what, first_line=2)
     frame.columns = [str(c).strip() for c in frame.columns]
-    return frame.rename(columns=pvlib.iotools.tmy.VARIABLE_MAP), place
+    return frame.rename(columns=TMY3_VARIABLE_MAP), place
 
 
 def _read_tmy3(path: Path, name: str, **_: Any) -> _Raw:
@@ -929,6 +938,8 @@ def _complete_irradiance(values: pd.DataFrame, lat: float, lon: float, alt: floa
     if math.isnan(lat) or math.isnan(lon):
         raise SiteInputError("the station's place ('# latitude_deg = ..' and '# longitude_deg = ..' lines) "
                              "to split GHI into beam and diffuse", file=name, field="latitude_deg")
+    import pvlib  # here, not at the top: a file with all three components needs no pvlib
+
     mid = values.index + pd.Timedelta(minutes=30)
     zenith = pvlib.solarposition.get_solarposition(mid, lat, lon, altitude=alt)["zenith"].to_numpy()
     cos_z = np.cos(np.radians(zenith))
@@ -961,8 +972,11 @@ class _Place:
 
 
 def pvlib_data_dir() -> Path:
-    """The installed pvlib package's data folder."""
-    return Path(pvlib.__file__).resolve().parent / "data"
+    """The installed pvlib package's data folder (found without importing pvlib)."""
+    spec = importlib.util.find_spec("pvlib")
+    if spec is None or not spec.submodule_search_locations:
+        raise ModuleNotFoundError("pvlib is not installed")
+    return Path(next(iter(spec.submodule_search_locations))).resolve() / "data"
 
 
 def bundled_weather_files() -> list[str]:

@@ -18,12 +18,22 @@ from typing import Literal
 from siteharvest.errors import SiteInputError
 from siteharvest.site import SiteSpec, load_site
 
-from .html import assemble, build_html, early_sections, fmt_energy_wh, fmt_sig, generated_text, spot_section
+from .html import (
+    assemble,
+    build_html,
+    early_sections,
+    fmt_energy_wh,
+    fmt_sig,
+    generated_text,
+    sizing_section,
+    spot_section,
+)
 from .render import ReportBrowser, ReportError, chromium_path
 from .study import SiteInput, SpotStudy, complete_study, expand_inputs, study_spot_or_error
 
 Format = Literal["pdf", "html"]
 Progress = Callable[[str], None]
+WhilePrinting = Callable[[list[SpotStudy], bool], None]  # (studies, portfolio)
 
 __all__ = ["Report", "ReportError", "SpotStudy", "build_html", "build_report", "chromium_path", "fmt_energy_wh",
            "fmt_sig", "make_report", "write_report"]
@@ -42,10 +52,13 @@ class Report:
 
 def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format = "pdf", sizing: bool = True,
                 risk_years: int = 200, sizing_steps: int = 24, seed: int = 1,
-                generated: dt.datetime | None = None, progress: Progress | None = None) -> Report:
+                generated: dt.datetime | None = None, progress: Progress | None = None,
+                while_printing: WhilePrinting | None = None) -> Report:
     """Study the spots and render the report, keeping the studies (for the hourly CSVs).
 
     ``progress``, if given, is called with a short line after each spot and before the printing.
+    ``while_printing``, if given, is called with the studies and whether they make a portfolio once the
+    document is finished, while the browser prints it (before the function returns).
 
     Bad input raises :class:`~siteharvest.errors.SiteInputError` for a single spot (and for a portfolio
     whose every site file is bad); otherwise in a portfolio the spot is listed with its error. Rendering
@@ -67,10 +80,13 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
         for n, item in enumerate(items, 1):
             t = time.perf_counter()
             study = study_spot_or_error(item, portfolio=portfolio, sizing=False, risk_years=0)
-            if study.ok:   # the year's figures render while the sizing and risk studies run
+            if study.ok:   # the year's figures render while the sizing study runs, its maps while the risk study runs
                 study.early_parts = early_sections(study, renderer.defer)
                 renderer.flush()
-                complete_study(study, sizing=sizing, risk_years=risk_years, sizing_steps=sizing_steps, seed=seed)
+                complete_study(study, sizing=sizing, risk_years=0, sizing_steps=sizing_steps)
+                study.early_parts["sizing"] = sizing_section(study, renderer.defer)
+                renderer.flush()
+                complete_study(study, sizing=False, risk_years=risk_years, seed=seed)
             timings["study"] += time.perf_counter() - t
             studies.append(study)
             sections.append(spot_section(study, n, renderer.defer, when, portfolio=portfolio))
@@ -88,7 +104,10 @@ def make_report(paths_or_specs: SiteInput | Sequence[SiteInput], *, fmt: Format 
         t = time.perf_counter()
         if progress is not None and fmt == "pdf":
             progress("printing the PDF")
-        content = renderer.pdf(html) if fmt == "pdf" else html.encode("utf-8")
+        printed = renderer.start_pdf(html) if fmt == "pdf" else None
+        if while_printing is not None:
+            while_printing(studies, portfolio)
+        content = printed() if printed is not None else html.encode("utf-8")
         timings["print"] = time.perf_counter() - t
     timings["total"] = time.perf_counter() - clock
     return Report(content, fmt, studies, portfolio, timings)
@@ -130,14 +149,22 @@ def write_report(paths_or_specs: SiteInput | Sequence[SiteInput], out: str | Pat
     hourly series as CSV beside it. Returns the paths written, the report first."""
     out = Path(out)
     fmt = fmt or ("html" if out.suffix.lower() in (".html", ".htm") else "pdf")
+    csv_texts: list[tuple[Path, str]] = []
+
+    def hourly_texts(studies: list[SpotStudy], portfolio: bool) -> None:
+        # formatted while the browser prints; written only once the report is there
+        for study, path in hourly_csv_paths(out, studies, portfolio):
+            assert study.assessment is not None
+            csv_texts.append((path, study.assessment.hourly_frame().to_csv(float_format="%.6g")))
+
     report = make_report(paths_or_specs, fmt=fmt, sizing=sizing, risk_years=risk_years,
-                         sizing_steps=sizing_steps, seed=seed, generated=generated, progress=progress)
+                         sizing_steps=sizing_steps, seed=seed, generated=generated, progress=progress,
+                         while_printing=hourly_texts if hourly else None)
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_bytes(report.content)
     written = [out]
-    if hourly:
-        for study, path in hourly_csv_paths(out, report.studies, report.portfolio):
-            assert study.assessment is not None
-            study.assessment.hourly_frame().to_csv(path, float_format="%.6g")
-            written.append(path)
+    for path, text in csv_texts:
+        with path.open("w", encoding="utf-8", newline="") as f:  # the line ends to_csv chose, as they are
+            f.write(text)
+        written.append(path)
     return written

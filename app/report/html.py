@@ -279,16 +279,18 @@ def year_section(study: SpotStudy, svg: SvgMaker) -> str:
     case = best
     cal = print_ready_calendar(case_calendar_figure(case), case)
     week, _, caption = case_week_figure(a, case)
-    year = case_year_figure(a, case)
     # a little shorter than on screen, so that a page holds more (figures with no legend below the plot)
     cal.update_layout(height=390)
-    year.update_layout(height=370)
     outage = outage_text(case)
     outage = f"{outage} h" if outage != WHOLE_YEAR else WHOLE_YEAR_MEANING
     flat = flat_store_text(a, case)
-    year_part = (f"<p>{e(flat)}</p>" if flat else
-                 figure(svg(year, f"Energy in the store across the year, {case.id}"),
-                        "Stored energy by day (across) and hour (up); darkest is the node's cut-off."))
+    if flat:  # the store picture would be one colour: a sentence instead, and the figure never built
+        year_part = f"<p>{e(flat)}</p>"
+    else:
+        year = case_year_figure(a, case)
+        year.update_layout(height=370)
+        year_part = figure(svg(year, f"Energy in the store across the year, {case.id}"),
+                           "Stored energy by day (across) and hour (up); darkest is the node's cut-off.")
     return (f'<div class="keep"><h2>The year with {e(case.id)}</h2>'
             f"<p>The best single source, shown hour by hour. Deficit days: {case.deficit_days}; "
             f"longest outage after first wake: {e(outage)}.</p>"
@@ -552,7 +554,7 @@ def spot_header(study: SpotStudy, generated: str, level: str = "h1") -> str:
 
 def early_sections(study: SpotStudy, svg: SvgMaker) -> dict[str, str]:
     """The sections that need only the year's assessment, so their figures can render while the
-    sizing and weather-risk studies run."""
+    sizing and weather-risk studies run (``make_report`` adds ``"sizing"`` once that study is done)."""
     return {"monthly": monthly_section(study, svg), "year": year_section(study, svg)}
 
 
@@ -561,7 +563,8 @@ def spot_body(study: SpotStudy, svg: SvgMaker, generated: str, *, with_methods: 
     assert a is not None
     early = study.early_parts or early_sections(study, svg)
     parts = [spot_header(study, generated), results_section(study), early["monthly"],
-             early["year"], sizing_section(study, svg), risk_section(study, svg), notes_section(a),
+             early["year"], early["sizing"] if "sizing" in early else sizing_section(study, svg),
+             risk_section(study, svg), notes_section(a),
              cautions_section(a), inputs_section(study)]
     if with_methods:
         parts.append(methods_section([study]))

@@ -18,7 +18,7 @@ import re
 import shutil
 import tempfile
 import threading
-from collections.abc import Coroutine
+from collections.abc import Callable, Coroutine
 from concurrent.futures import Future
 from pathlib import Path
 from types import TracebackType
@@ -317,19 +317,29 @@ class ReportBrowser:
 
     def pdf(self, html: str, *, timeout_s: float = PDF_TIMEOUT_S) -> bytes:
         """Print a finished HTML document to PDF: paper and margins from the page's CSS, else A4."""
+        return self.start_pdf(html, timeout_s=timeout_s)()
+
+    def start_pdf(self, html: str, *, timeout_s: float = PDF_TIMEOUT_S) -> Callable[[], bytes]:
+        """Start printing ``html`` (as :meth:`pdf`) and return at once with a function that waits for the
+        PDF, so the caller can go on while the browser prints."""
         assert self._tmp is not None, "ReportBrowser.pdf() outside its 'with' block"
         page = Path(self._tmp.name) / f"report-{next(self._count)}.html"
         page.write_text(html, encoding="utf-8")
-        try:
-            return self._submit(self._print(page.as_uri(), timeout_s)).result(timeout=timeout_s + 5)
-        except ReportError:
-            raise
-        except TimeoutError:
-            raise ReportError(f"Chromium did not finish printing the report within {timeout_s:.0f} s") from None
-        except Exception as exc:
-            raise ReportError(f"Chromium could not print the report to PDF ({_first_line(exc)})") from exc
-        finally:
-            page.unlink(missing_ok=True)
+        printing = self._submit(self._print(page.as_uri(), timeout_s))
+
+        def wait() -> bytes:
+            try:
+                return printing.result(timeout=timeout_s + 5)
+            except ReportError:
+                raise
+            except TimeoutError:
+                raise ReportError(f"Chromium did not finish printing the report within {timeout_s:.0f} s") from None
+            except Exception as exc:
+                raise ReportError(f"Chromium could not print the report to PDF ({_first_line(exc)})") from exc
+            finally:
+                page.unlink(missing_ok=True)
+
+        return wait
 
     async def _print(self, uri: str, timeout_s: float) -> bytes:
         tab = await self._tab()

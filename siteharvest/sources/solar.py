@@ -20,12 +20,11 @@ Hours whose mid-hour sun is below the astronomical horizon give zero.
 
 from __future__ import annotations
 
+from collections.abc import Iterator, Mapping
 from typing import Annotated, Any, Literal
 
 import numpy as np
-import pvlib
 from pydantic import Field, model_validator
-from scipy import constants
 
 from ..conditioning import ConditioningSpec
 from ..context import SpotContext
@@ -117,20 +116,30 @@ TECHNOLOGY_PRESETS: dict[str, dict[str, Any]] = {
     },
 }
 
-# Mountings (plain names) -> coefficients of the King et al. (2004) module temperature model as
-# tabulated in pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS.
-_KING = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"]
-MOUNTING_PRESETS: dict[str, dict[str, float]] = {
-    "open-rack": {"cell_temp_a": _KING["open_rack_glass_polymer"]["a"],
-                  "cell_temp_b": _KING["open_rack_glass_polymer"]["b"],
-                  "cell_temp_rise_c": _KING["open_rack_glass_polymer"]["deltaT"]},
-    "close-to-wall": {"cell_temp_a": _KING["close_mount_glass_glass"]["a"],
-                      "cell_temp_b": _KING["close_mount_glass_glass"]["b"],
-                      "cell_temp_rise_c": _KING["close_mount_glass_glass"]["deltaT"]},
-    "insulated-back": {"cell_temp_a": _KING["insulated_back_glass_polymer"]["a"],
-                       "cell_temp_b": _KING["insulated_back_glass_polymer"]["b"],
-                       "cell_temp_rise_c": _KING["insulated_back_glass_polymer"]["deltaT"]},
-}
+# Mountings (plain names) -> their row of the King et al. (2004) module temperature model as tabulated in
+# pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"].
+_KING_ROWS = {"open-rack": "open_rack_glass_polymer", "close-to-wall": "close_mount_glass_glass",
+              "insulated-back": "insulated_back_glass_polymer"}
+
+
+class _MountingPresets(Mapping[str, dict[str, float]]):
+    """Mounting -> ``cell_temp_a``, ``cell_temp_b``, ``cell_temp_rise_c`` from pvlib's table, read when first
+    looked up: a site file without a solar source loads without importing pvlib."""
+
+    def __getitem__(self, mounting: str) -> dict[str, float]:
+        import pvlib
+
+        row = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"][_KING_ROWS[mounting]]
+        return {"cell_temp_a": row["a"], "cell_temp_b": row["b"], "cell_temp_rise_c": row["deltaT"]}
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(_KING_ROWS)
+
+    def __len__(self) -> int:
+        return len(_KING_ROWS)
+
+
+MOUNTING_PRESETS: Mapping[str, dict[str, float]] = _MountingPresets()
 
 HorizonPoint = tuple[Annotated[float, Field(ge=0, le=360)], Annotated[float, Field(ge=0, le=90)]]
 
@@ -369,6 +378,8 @@ def relative_efficiency(
     Driesse, A. and Stein, J.S. (2020). From IEC 61853 power measurements to PV system simulations.
     Sandia report SAND2020-3877.
     """
+    import pvlib  # pvlib (and scipy) are imported where used, see siteharvest.sun
+
     g = np.maximum(np.asarray(irradiance_w_m2, dtype=float), 0.0)
     tc_d = adr_tc_d(temp_coeff_per_k, k_d, k_rs, k_rsh)
     eta = pvlib.pvarray.pvefficiency_adr(g, np.asarray(cell_temp_c, dtype=float), k_a=1.0, k_d=k_d,
@@ -417,6 +428,8 @@ def panel_mpp_voltage_v(
     Green, M.A. (1982). Solar Cells: Operating Principles, Technology and System Applications.
     Prentice-Hall, ch. 5.
     """
+    from scipy import constants
+
     g = np.asarray(irradiance_w_m2, dtype=float)
     t = np.asarray(cell_temp_c, dtype=float)
     thermal_v = constants.k * (t + constants.zero_Celsius) / constants.e
@@ -464,6 +477,8 @@ def plane_of_array_components(
     Kasten, F. and Young, A.T. (1989). Revised optical air mass tables and approximation formula.
     Applied Optics 28(22), 4735-4738.
     """
+    import pvlib
+
     pos = ctx.solar_position
     zen = pos["apparent_zenith"].to_numpy(dtype=float)
     sun_az = pos["azimuth"].to_numpy(dtype=float)
@@ -543,6 +558,8 @@ def cover_transmission(iam_model: str, tilt_deg: float, aoi_deg: np.ndarray) -> 
     Marion, B. (2017). Numerical method for angle-of-incidence correction factors for diffuse
     radiation incident photovoltaic modules. Solar Energy 147, 344-348.
     """
+    import pvlib
+
     fn = pvlib.iam.physical if iam_model == "physical" else pvlib.iam.martin_ruiz
     beam = np.nan_to_num(np.asarray(fn(np.asarray(aoi_deg, dtype=float)), dtype=float), nan=0.0)
     diffuse = pvlib.iam.marion_diffuse(iam_model, tilt_deg)
@@ -580,6 +597,8 @@ def cell_temperature_c(poa_global_w_m2: np.ndarray, temp_air_c: np.ndarray, wind
     King, D.L., Boyson, W.E. and Kratochvil, J.A. (2004). Photovoltaic array performance model.
     Sandia report SAND2004-3535, eqs. 11-12.
     """
+    import pvlib
+
     return np.asarray(pvlib.temperature.sapm_cell(poa_global_w_m2, temp_air_c, wind_speed_m_s,
                                                   a, b, rise_c), dtype=float)
 

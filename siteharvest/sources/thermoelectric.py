@@ -46,7 +46,6 @@ from typing import Annotated, Any, Literal
 
 import numpy as np
 import pandas as pd
-import pvlib
 from pydantic import Field, field_validator, model_validator
 
 from ..conditioning import ConditioningSpec
@@ -263,6 +262,15 @@ class ThermoelectricSource(SourceBase):
 # --------------------------------------------------------------------------------------------
 # Physics: small pure functions
 # --------------------------------------------------------------------------------------------
+
+
+def standard_pressure_pa(altitude_m: float) -> float:
+    """Air pressure of the standard atmosphere at ``altitude_m`` [Pa].
+
+    The formula of ``pvlib.atmosphere.alt2pres`` (Portland State Aerospace Society 2004), written out so
+    that a thermoelectric source imports no pvlib; tests/test_lazy_imports.py checks the two agree.
+    """
+    return 100 * ((44331.514 - altitude_m) / 11880.516) ** (1 / 0.1902632)
 
 
 def matched_load_power_w(seebeck_v_k: Any, delta_t_k: Any, resistance_ohm: Any) -> np.ndarray:
@@ -845,7 +853,7 @@ def thermoelectric_output(spec: ThermoelectricSource, ctx: SpotContext) -> Sourc
     r_pipe = spec.pipe.resistance_k_w(footprint_m2) if spec.pipe is not None else 0.0
     r_hot = spec.hot_contact_resistance_k_w + r_pipe
     r_before = r_hot + r_module + spec.cold_contact_resistance_k_w
-    pressure = float(pvlib.atmosphere.alt2pres(ctx.altitude_m))
+    pressure = float(standard_pressure_pa(ctx.altitude_m))
     wind = (None if ctx.indoors
             else spec.heat_sink.wind_exposure * ctx.weather["wind_speed_m_s"].to_numpy(dtype=float))
     r_sink, heat_w = solve_thermal_network(dt_total, cold_c, r_before, spec.heat_sink, pressure, wind_m_s=wind)

@@ -61,7 +61,6 @@ from typing import Any, Literal
 
 import numpy as np
 from pydantic import Field, ValidationInfo, field_validator, model_validator
-from scipy.optimize import brentq
 
 from ..conditioning import ConditioningSpec, bridge_rectifier
 from ..context import SpotContext
@@ -619,6 +618,8 @@ def running_point(exc: Excitation, h: Harvester) -> RunningPoint:
     zeta_e = h.zeta_e
     limited = free_travel > h.travel_limit_m
     if limited:
+        from scipy.optimize import brentq  # scipy.optimize takes a tenth of a second to import: only when needed
+
         def excess(ze: float) -> float:
             _, z2_e, _, z1_e = _sums(exc, h, ze, n_u, n_s)
             return float(peak_travel_m(z2_e, z1_e).max()) / h.travel_limit_m - 1.0
