@@ -25,8 +25,8 @@ from siteharvest.findings import case_label, headline, source_inputs, weather_wa
 from siteharvest.site import SiteSpec, dump_site, parse_site, parse_site_text
 from siteharvest.vibration_spectrum import read_spectrum_csv
 
-from . import callbacks_study, ids
-from .editor import render_editor
+from . import callbacks_results, callbacks_study, ids
+from .editor import editor_patch, render_editor
 from .engine import (
     STARTER_SITE,
     assessment_for,
@@ -165,8 +165,12 @@ def edit_field(values: list[Any], msg_ids: list[dict[str, str]], key: str, spots
 
 
 def edit_structure(clicks: list[int | None], key: str, spots: dict[str, Any], rev: int, *,
-                   trigger: Trigger | None = None) -> tuple[Any, Any, str]:
-    """An add or remove button: validate the changed spot; keep the old one when it does not fit."""
+                   trigger: Trigger | None = None, open_groups: set[str] | None = None) -> tuple[Any, Any, str, Any]:
+    """An add or remove button: validate the changed spot; keep the old one when it does not fit.
+
+    Returns (spots, editor revision, message line, editor update): the editor is updated in place, group by
+    group (:func:`editor_patch`); only when its groups differ is the revision bumped to rebuild it whole.
+    """
     button, n = trigger if trigger is not None else _trigger()
     if not isinstance(button, dict) or not n or key not in (spots or {}):
         raise PreventUpdate
@@ -174,14 +178,17 @@ def edit_structure(clicks: list[int | None], key: str, spots: dict[str, Any], re
     if button["action"] == "remove-source" and len(record["site"].get("source") or []) <= 1:
         line = LAST_SOURCE_LINE
         _say_at_foot(line)
-        return no_update, no_update, line
+        return no_update, no_update, line, no_update
     try:
         candidate = apply_action(record["site"], button["action"], button["path"])
         new_site = _validate(candidate, record)
     except (EditProblem, SiteInputError) as exc:
         _say_at_foot(_problem_text(exc))
-        return no_update, no_update, _problem_text(exc)
-    return _with_site(spots, key, new_site), (rev or 0) + 1, ""
+        return no_update, no_update, _problem_text(exc), no_update
+    patch = editor_patch(record["site"], new_site, record.get("files") or {}, open_groups)
+    if patch is None:
+        return _with_site(spots, key, new_site), (rev or 0) + 1, "", no_update
+    return _with_site(spots, key, new_site), no_update, "", patch
 
 
 LAST_SOURCE_LINE = ("A spot needs at least one source: add another source before removing this one "
@@ -499,18 +506,7 @@ def case_views(case_id: str | None, week: str | None, spots: dict[str, Any], key
 
 def portfolio(tab: str, spots: dict[str, Any], session: str | None) -> list[dict[str, Any]]:
     """Every loaded spot with its best source (computed when the portfolio tab is open)."""
-    from .tables import portfolio_row
-
-    if tab != ids.TAB_PORTFOLIO or not spots:
-        raise PreventUpdate
-    rows = []
-    for key, record in spots.items():
-        try:
-            rows.append(portfolio_row(key, record.get("file", ""), assessment_for(record, session)))
-        except (SiteInputError, ValueError) as exc:
-            rows.append(portfolio_row(key, record.get("file", ""), None, _problem_text(exc),
-                                      record["site"]["spot"]["name"]))
-    return rows
+    return callbacks_results.open_portfolio(tab, spots, session)
 
 
 def open_from_portfolio(selected: list[dict[str, Any]] | None) -> tuple[str, list[Any]]:
@@ -588,13 +584,18 @@ def _wire_editor(app: dash.Dash) -> None:
         State(ids.FORM_REV, "data"),
         prevent_initial_call=True,
     )(edit_field)
+    def edit_structure_cb(clicks: list[int | None], key: str, spots: dict[str, Any], rev: int,
+                          group_open: list[bool] | None, group_ids: list[dict[str, str]] | None) -> tuple[Any, ...]:
+        shown = {g["key"] for g, is_open in zip(group_ids or [], group_open or [], strict=False) if is_open}
+        return edit_structure(clicks, key, spots, rev, open_groups=shown)
+
     app.callback(
         Output(ids.SPOTS, "data", allow_duplicate=True), Output(ids.FORM_REV, "data", allow_duplicate=True),
-        Output(ids.EDITOR_MSG, "children", allow_duplicate=True),
+        Output(ids.EDITOR_MSG, "children", allow_duplicate=True), Output(ids.EDITOR, "children", allow_duplicate=True),
         Input(ACTION_ALL, "n_clicks"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
-        State(ids.FORM_REV, "data"),
+        State(ids.FORM_REV, "data"), State(GROUP_ALL, "open"), State(GROUP_ALL, "id"),
         prevent_initial_call=True,
-    )(edit_structure)
+    )(edit_structure_cb)
 
 
 def _wire_files(app: dash.Dash) -> None:
@@ -645,31 +646,14 @@ def _wire_files(app: dash.Dash) -> None:
 
 
 def _wire_results(app: dash.Dash) -> None:
-    """The results of the chosen spot and case, the spot picker's list, and the problem line's dismissal."""
-    app.callback(Output(ids.SPOT_PICKER, "options"), Input(ids.SPOTS, "data"))(picker_options)
+    """The results of the chosen spot (:mod:`siteharvest_app.callbacks_results`) and the problem line's dismissal."""
     app.callback(Output(ids.PROBLEM, "children", allow_duplicate=True), Input(ids.PROBLEM_CLOSE, "n_clicks"),
                  prevent_initial_call=True)(dismiss_problem)
-    app.callback(
-        Output(ids.STATUS, "children"), Output(ids.SUMMARY, "children"), Output(ids.CAUTIONS, "children"),
-        Output(ids.NOTES, "children"), Output(ids.FIG_SOURCES, "figure"),
-        Output(ids.CASE_PICKER, "options"), Output(ids.CASE_PICKER, "value"),
-        Input(ids.SPOTS, "data"), Input(ids.SPOT_PICKER, "value"),
-        State(ids.SESSION, "data"), State(ids.CASE_PICKER, "value"),
-    )(recompute)
-    app.callback(
-        Output(ids.FIG_YEAR, "figure"), Output(ids.FIG_CALENDAR, "figure"), Output(ids.FIG_WEEK, "figure"),
-        Output(ids.WEEK_CAPTION, "children"),
-        Input(ids.CASE_PICKER, "value"), Input(ids.WEEK_PICKER, "value"),
-        State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
-    )(case_views)
+    callbacks_results.register(app)
 
 
 def _wire_portfolio(app: dash.Dash) -> None:
-    """The portfolio grid, and opening the spot chosen in it."""
-    app.callback(
-        Output(ids.PORTFOLIO_TABLE, "rowData"),
-        Input(ids.TABS, "value"), Input(ids.SPOTS, "data"), State(ids.SESSION, "data"),
-    )(portfolio)
+    """Opening the spot chosen in the portfolio grid (its rows: :mod:`siteharvest_app.callbacks_results`)."""
     app.callback(
         Output(ids.SPOT_PICKER, "value", allow_duplicate=True), Output(ids.PORTFOLIO_TABLE, "selectedRows"),
         Input(ids.PORTFOLIO_TABLE, "selectedRows"),

@@ -405,28 +405,36 @@ def register(app: dash.Dash) -> None:
     """Wire the study views and the report buttons to ``app``."""
     from .report_queue import one_report_at_a_time  # one report browser at a time per server
 
-    app.callback(
-        Output(ids.SIZING_TARGET, "value"), Output(ids.SIZING_TARGET_FROM, "data"),
-        Input(ids.SPOT_PICKER, "value"), Input(ids.SPOTS, "data"), State(ids.SIZING_TARGET_FROM, "data"),
-    )(sync_target)
+    # the spot's own target and the pickers' choices follow the spot in callbacks_results.show_spot; here they
+    # follow a source chosen by hand
+    def study_choices_cb(case_id: str | None, key: str, spots: dict[str, Any], knob: str | None,
+                         task: str | None) -> tuple[Any, Any, Any, Any]:
+        knobs, knob_out, tasks, task_out = study_choices(key, case_id, spots, knob, task)
+        return (knobs, no_update if knob_out == knob else knob_out,
+                tasks, no_update if task_out == task else task_out)
 
     app.callback(
-        Output(ids.SIZING_KNOB, "options"), Output(ids.SIZING_KNOB, "value"),
-        Output(ids.SIZING_TASK, "options"), Output(ids.SIZING_TASK, "value"),
-        Input(ids.SPOT_PICKER, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.SPOTS, "data"),
+        *[Output(c, p, allow_duplicate=True) for c in (ids.SIZING_KNOB, ids.SIZING_TASK) for p in ("options", "value")],
+        Input(ids.CASE_PICKER, "value"), State(ids.SPOT_PICKER, "value"), State(ids.SPOTS, "data"),
         State(ids.SIZING_KNOB, "value"), State(ids.SIZING_TASK, "value"),
-    )(study_choices)
+        prevent_initial_call=True,
+    )(study_choices_cb)
 
     def sizing_view_cb(tab: str | None, case_id: str | None, target: Any, knob: str | None, task: str | None,
-                       spots: dict[str, Any], key: str, session: str | None) -> tuple[Any, Any, Any]:
+                       _view: Any, spots: dict[str, Any], key: str, session: str | None) -> tuple[Any, Any, Any]:
         return sizing_view(tab, case_id, target, spots, key, session, knob=knob, task=task)
 
     app.callback(
         Output(ids.FIG_SIZING, "figure"), Output(ids.SIZING_TEXT, "children"), Output(ids.FIG_SIZING, "style"),
         Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.SIZING_TARGET, "value"),
-        Input(ids.SIZING_KNOB, "value"), Input(ids.SIZING_TASK, "value"),
+        Input(ids.SIZING_KNOB, "value"), Input(ids.SIZING_TASK, "value"), Input(ids.VIEW_KEY, "data"),
         State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
+        prevent_initial_call=True,
     )(sizing_view_cb)
+
+    def risk_view_cb(tab: str | None, case_id: str | None, years: Any, seed: Any, rate: Any, mean_days: Any,
+                     _view: Any, spots: dict[str, Any], key: str, session: str | None) -> tuple[Any, ...]:
+        return risk_view(tab, case_id, years, seed, rate, mean_days, spots, key, session)
 
     app.callback(
         Output(ids.RISK_TABLE, "children"), Output(ids.FIG_RISK, "figure"), Output(ids.FIG_RISK_ALL, "figure"),
@@ -434,8 +442,10 @@ def register(app: dash.Dash) -> None:
         Output(ids.RISK_OUTAGE_NOTE, "children"),
         Input(ids.TABS, "value"), Input(ids.CASE_PICKER, "value"), Input(ids.RISK_YEARS, "value"),
         Input(ids.RISK_SEED, "value"), Input(ids.RISK_OUTAGE_RATE, "value"), Input(ids.RISK_OUTAGE_DAYS, "value"),
+        Input(ids.VIEW_KEY, "data"),
         State(ids.SPOTS, "data"), State(ids.SPOT_PICKER, "value"), State(ids.SESSION, "data"),
-    )(risk_view)
+        prevent_initial_call=True,
+    )(risk_view_cb)
 
     app.callback(
         Output(ids.REPORT_DOWNLOAD, "data"), Output(ids.REPORT_MSG, "children"),

@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+import json
 from typing import Any
 
-from dash import dcc, html
+from dash import Patch, dcc, html
+from plotly.utils import PlotlyJSONEncoder
 
 from . import ids
 from .fieldspec import Block, Control, Group, editor_groups
@@ -34,17 +36,18 @@ def _input(c: Control) -> Any:
 
 
 def render_control(c: Control) -> html.Div:
-    label_children: list[Any] = [html.Span(c.label, className="sh-label")]
-    if c.unit:
-        label_children.append(html.Span(c.unit, className="sh-unit"))
+    """One field in four components: the page revisits every component on each answer, so the unit and the
+    bounds are data attributes that the style sheet shows (``::after``), not components of their own."""
     hint = " · ".join(x for x in (c.bounds, c.doc) if x)
+    label_extra = {"data-unit": c.unit} if c.unit else {}
+    field_extra = {"data-hint": hint} if hint else {}
     return html.Div(
         className="sh-field" + (" sh-field-wide" if c.role.startswith("variant:") else ""),
-        **{"data-path": c.path},
+        **{"data-path": c.path}, **field_extra,
         children=[
-            html.Label(label_children, htmlFor=ids.dom_id(ids.field_id(c.path, c.role)), title=f"{c.name}: {c.doc}"),
+            html.Label(c.label, htmlFor=ids.dom_id(ids.field_id(c.path, c.role)), title=f"{c.name}: {c.doc}",
+                       **label_extra),
             _input(c),
-            html.Div(hint, className="sh-hint", title=hint) if hint else None,
             html.Div(id=ids.field_msg_id(c.path), className="sh-msg", role="alert"),
         ],
     )
@@ -110,3 +113,26 @@ def render_editor(site: dict[str, Any], files: dict[str, str] | None = None,
                   open_groups: set[str] | None = None) -> list[Any]:
     """The whole editor for one site dict (``open_groups``: keys of the groups shown unfolded)."""
     return [render_group(g, open_groups) for g in editor_groups(site, files)]
+
+
+def _same(a: Any, b: Any) -> bool:
+    return json.dumps(a, cls=PlotlyJSONEncoder, sort_keys=True) == json.dumps(b, cls=PlotlyJSONEncoder, sort_keys=True)
+
+
+def editor_patch(old_site: dict[str, Any], new_site: dict[str, Any], files: dict[str, str] | None = None,
+                 open_groups: set[str] | None = None) -> Patch | None:
+    """Only the groups of the editor that an edit changed, as a partial update of the editor's children.
+
+    A group that changed is shown unfolded (a source just added is in view). None when the groups
+    themselves differ (then the whole editor is rebuilt).
+    """
+    old, new = editor_groups(old_site, files), editor_groups(new_site, files)
+    if [g.key for g in old] != [g.key for g in new]:
+        return None
+    patch = Patch()
+    for i, (a, b) in enumerate(zip(old, new, strict=True)):
+        shown = (open_groups or set()) | {b.key}
+        rendered = render_group(b, shown)
+        if not _same(render_group(a, shown), rendered):
+            patch[i] = rendered
+    return patch

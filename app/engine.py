@@ -72,6 +72,7 @@ class MemoCache:
 
 CONTEXTS = MemoCache(8)  # weather year + spot context, by place, weather table and file digest
 ASSESSMENTS = MemoCache(12)  # whole assessments, by the site dict and the digests of its files
+PORTFOLIO_ROWS = MemoCache(20_000)  # portfolio rows (a few hundred bytes each), by spot content, key and file
 WEATHER_CHECKS = MemoCache(8)  # parsed uploads, by content hash
 
 
@@ -230,12 +231,17 @@ def _key(*parts: Any) -> str:
     return hashlib.sha256(json.dumps(parts, sort_keys=True, default=str).encode()).hexdigest()
 
 
+CONTEXT_FREE_SPOT_FIELDS = ("name", "notes", "mounting_height_m", "hazardous_area")
+
+
 def assessment_for(record: dict[str, Any], session: str | None) -> Assessment:
     """The spot's assessment (cached by content). Raises :class:`SiteInputError` naming files as the site does."""
     spec = spec_for(record, session)
     weather = record["site"].get("weather") or {}
     weather_file = weather.get("file") if isinstance(weather, dict) else None
-    ctx_key = _key(record["site"]["spot"], weather,
+    # the context rests on the place and the weather: the spot's name, notes and safety facts leave it as it is
+    place = {k: v for k, v in (record["site"].get("spot") or {}).items() if k not in CONTEXT_FREE_SPOT_FIELDS}
+    ctx_key = _key(place, weather,
                    spec.files.fingerprint(weather_file) if isinstance(weather_file, str) else "")
 
     def make() -> Assessment:

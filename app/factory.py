@@ -2,14 +2,18 @@
 
 from __future__ import annotations
 
+import logging
 from pathlib import Path
+from typing import Any
 
 import dash
 
-from . import callbacks, security
+from . import callbacks, ids, security
 from .bundled import ASSETS
 from .engine import load_records
 from .layout import build_layout
+
+log = logging.getLogger(__name__)
 
 INDEX = """<!DOCTYPE html>
 <html lang="en">
@@ -29,6 +33,21 @@ INDEX = """<!DOCTYPE html>
     </body>
 </html>
 """
+
+
+def _serve_first_results(layout: Any, spots: dict[str, Any]) -> None:
+    """Put the first spot's results into the layout: a first visit then shows them without asking."""
+    from .callbacks_results import first_answer
+
+    try:
+        answer = first_answer(spots, next(iter(spots)))
+    except Exception:  # a fault, not a bad spot (those are answered in the status line)
+        log.exception("the first results could not be computed at start")
+        layout[ids.STATUS].children = ("The first results could not be computed here; choose a spot or edit a "
+                                       "field to try again.")
+        return
+    for (cid, prop), value in answer.items():
+        setattr(layout[cid], prop, value)
 
 
 def create_app(paths: list[Path] | list[str] | None = None, *, password: str | None = None) -> dash.Dash:
@@ -52,6 +71,7 @@ def create_app(paths: list[Path] | list[str] | None = None, *, password: str | N
     )
     app.index_string = INDEX.replace("{%app_path%}assets/mark.svg", app.get_asset_url("mark.svg"))
     app.layout = build_layout(spots, errors, app.get_asset_url("mark.svg"))
+    _serve_first_results(app.layout, spots)
     callbacks.register(app)
     security.secure_headers(app)  # after the callbacks: the inline-script hashes depend on them
     if password is not None:

@@ -9,6 +9,7 @@ from __future__ import annotations
 # state (dcc.Store)
 SPOTS = "sh-spots"  # {key: spot record}: every loaded spot, as dumped site dicts
 SESSION = "sh-session"  # this page's random token: its uploads are kept on the server under it
+VIEW_KEY = "sh-view-key"  # the content the open view must show: a new value redraws it
 FORM_REV = "sh-form-rev"  # int: bumped when the editor must be rebuilt (structure or presets changed)
 
 # header

@@ -104,6 +104,7 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
                  children=render_editor(spots[first]["site"], {}, None)),
     ])
     results = html.Section(id=RESULTS_ID, className="sh-results", tabIndex="-1", **{"aria-label": "Results"}, children=[
+        html.Div("Updating the results…", className="sh-busy-line", role="status"),
         dcc.Loading(type="circle", color="#0072B2", delay_show=250, children=html.Div([
             html.Div(id=ids.STATUS, className="sh-status"),
             # the table scrolls sideways in this box on a narrow screen: a stop of its own, so the keys scroll it
@@ -165,6 +166,7 @@ def build_layout(spots: dict[str, dict[str, Any]], load_errors: list[str], logo_
         dcc.Store(id=ids.SPOTS, data=spots, storage_type="session"),
         dcc.Store(id=ids.SESSION, data=None, storage_type="session"),
         dcc.Store(id=ids.FORM_REV, data=0),
+        dcc.Store(id=ids.VIEW_KEY, data=""),
         html.A("Skip to the results", href=f"#{RESULTS_ID}", className="sh-skip"),
         header,
         html.Main(className="sh-main", children=[editor, results]),

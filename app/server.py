@@ -16,7 +16,7 @@ import threading
 from pathlib import Path
 from typing import Any
 
-from .engine import assessment_for
+from .callbacks_results import portfolio_rows
 from .factory import create_app
 from .security import MAX_REQUEST_BYTES, PASSWORD_ENV, USER, operator_password
 from .uploads import ROOT_ENV as UPLOAD_DIR_ENV
@@ -40,10 +40,11 @@ def is_loopback(host: str) -> bool:
 
 
 def _warm(spots: dict[str, Any]) -> None:
-    """Fill the assessment cache for the loaded spots, so the first visit finds results ready."""
-    for record in spots.values():
+    """Fill the caches for the loaded spots (each one's portfolio row, and so its assessment), so the first
+    visit finds results ready."""
+    for key, record in spots.items():
         try:
-            assessment_for(record, None)
+            portfolio_rows({key: record}, None)
         except Exception:  # the page shows the spot's problem when asked; warming never stops the server
             continue
 

@@ -17,6 +17,7 @@ from pathlib import Path
 
 import pytest
 from dash import no_update
+from served import callback_body
 from siteharvest_app import callbacks as cb
 from siteharvest_app import callbacks_study as cs
 from siteharvest_app import ids
@@ -285,14 +286,9 @@ def test_no_server_path_reaches_the_page():
     spots = app.layout.children[0].data
     key = next(iter(spots))
     dep = next(d for d in client.get("/_dash-dependencies").get_json() if f"{ids.STATUS}.children" in d["output"])
-    outputs = [dict(zip(("id", "property"), part.rsplit(".", 1), strict=True))
-               for part in dep["output"].strip(".").split("...")]
-    body = {"output": dep["output"], "outputs": outputs,
-            "inputs": [{"id": ids.SPOTS, "property": "data", "value": spots},
-                       {"id": ids.SPOT_PICKER, "property": "value", "value": key}],
-            "state": [{"id": ids.SESSION, "property": "data", "value": SESSION_A},
-                      {"id": ids.CASE_PICKER, "property": "value", "value": None}],
-            "changedPropIds": [f"{ids.SPOTS}.data"]}
+    body = callback_body(dep, {f"{ids.SPOTS}.data": spots, f"{ids.SPOT_PICKER}.value": key,
+                               f"{ids.SESSION}.data": SESSION_A, f"{ids.TABS}.value": ids.TAB_PORTFOLIO},
+                         f"{ids.SPOTS}.data")
     reply = client.post("/_dash-update-component", json=body)
     text = reply.get_data(as_text=True)
     assert reply.status_code == 200 and str(ROOT) not in text and str(SAMPLE_SITES.resolve()) not in text

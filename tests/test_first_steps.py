@@ -58,5 +58,5 @@ def test_removing_the_last_source_says_so_plainly():
     spots, _ = samples()
     one = next(k for k, r in spots.items() if len(r["site"]["source"]) == 1)
     remove = ids.action_id("remove-source", "source.0")
-    new, rev, line = cb.edit_structure([1], one, spots, 0, trigger=(remove, 1))
+    new, rev, line, _ = cb.edit_structure([1], one, spots, 0, trigger=(remove, 1))
     assert new is no_update and rev is no_update and line == cb.LAST_SOURCE_LINE
