@@ -27,8 +27,8 @@ Method
 Checks: a sample rate below 2.56 times the harvester's frequency (its resonant frequency, else its
 highest stated line) aliases and is refused (2.56 is the ratio of analyser practice: the Nyquist
 factor 2 with room for the anti-alias filter's roll-off); samples at the logger's full scale
-(WAV: the digital limits; CSV: a stated ``full_scale``, else the extremes repeated in at least 1 %
-of the samples, a flat top) are clipping; a DC level of about 1 g read as m/s2, or of about
+(WAV: the digital limits; CSV: a stated ``full_scale``, else the extreme value held by neighbouring
+samples in at least 1 % of the samples, a flat top) are clipping; a DC level of about 1 g read as m/s2, or of about
 9.8 m/s2 read as g, and an overall RMS above 20 g, are unit mix-ups.
 
 References
@@ -128,9 +128,10 @@ def check_accel(raw: np.ndarray, unit: str, file: str, full_scale: float | None,
                                  file=file, field="samples", got=f"{int(at.sum()):,} samples at it")
     else:
         for end in (x.max(), x.min()):
-            count = int((x == end).sum())
+            at = x == end
+            count = int((at[1:] & at[:-1]).sum())    # flat tops: the extreme held by neighbouring samples
             if count >= 5 and count >= FLAT_TOP_SHARE * x.size and x.max() > x.min():
-                raise SiteInputError("a recording without flat tops (the extreme value repeats in "
+                raise SiteInputError("a recording without flat tops (the extreme value held in "
                                      f"{100 * count / x.size:.1f} % of samples: it clips at the logger's full "
                                      "scale)", file=file, field="samples", got=f"{count:,} samples at {end:g} {unit}")
     if not units:
