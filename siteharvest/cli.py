@@ -1,4 +1,4 @@
-"""Command line: ``siteharvest assess | size | report | schema | serve``.
+"""Command line: ``siteharvest assess | size | report | schema | serve | survey``.
 
 Bad input prints one line naming the file, the field and what was expected, and exits with 2.
 """
@@ -357,6 +357,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--password-file", metavar="FILE",
                    help="file whose first line is the password (user 'siteharvest'; default: $SITEHARVEST_PASSWORD)")
     p.set_defaults(func=cmd_serve)
+    from .cli_survey import add_survey_parser  # survey logs -> fitted site fields
+    add_survey_parser(sub)
     return parser
 
 

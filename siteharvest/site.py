@@ -12,10 +12,10 @@ import math
 import re
 import tomllib
 from pathlib import Path
-from typing import Any
+from typing import Any, Literal
 
 import tomli_w
-from pydantic import Field, PrivateAttr, ValidationError, model_validator
+from pydantic import Field, PrivateAttr, ValidationError, field_validator, model_validator
 
 from .demand import NodeSpec
 from .errors import ChoiceError, SiteInputError, one_line
@@ -61,6 +61,33 @@ class RunSpec(Section):
         return self
 
 
+class MeasuredField(Section):
+    """Where a field's value came from when a survey log set it (one ``[[measured]]`` table).
+
+    Written by ``siteharvest survey``; a field without a record is assumed (typed in or a default).
+    """
+
+    path: str = Field(..., min_length=1, max_length=200,
+                      pattern=r"^(spot|source\[[A-Za-z0-9_.\-]+\])\.[A-Za-z_][A-Za-z0-9_.]*$",
+                      description="the field: 'source[<id>].<field>' or 'spot.<field>'")
+    survey: Literal["light", "temperature", "vibration"] = Field(..., description="the kind of log it was "
+                                                                 "fitted from")
+    logs: list[str] = Field(..., min_length=1, max_length=100, description="the log files it was fitted from, "
+                            "as named when fitted (a record only: nothing reads them)")
+    first_date: str = Field(..., pattern=r"^\d{4}-\d{2}-\d{2}$", description="first logged date, YYYY-MM-DD")
+    last_date: str = Field(..., pattern=r"^\d{4}-\d{2}-\d{2}$", description="last logged date, YYYY-MM-DD")
+    fit: str = Field("", max_length=500, description="the fit's quality in a line")
+    year_spread_pct: float | None = quantity(None, "%", "half-width of the 90 % interval the log's extension "
+                                             "to a year leaves", ge=0, le=1e6)
+
+    @field_validator("logs")
+    @classmethod
+    def _names(cls, v: list[str]) -> list[str]:
+        if any(not name or len(name) > 500 for name in v):
+            raise ValueError("log names of 1 to 500 characters")
+        return v
+
+
 class SiteSpec(Section):
     """One mounting spot: place, weather, the node, its store and the candidate sources."""
 
@@ -71,6 +98,8 @@ class SiteSpec(Section):
     source: list[AnySource] = Field(..., min_length=1, max_length=12,
                                     description="candidate harvesters at this spot")
     run: RunSpec = Field(default_factory=RunSpec, description="simulation and judgement settings")
+    measured: list[MeasuredField] | None = Field(None, max_length=500, description="fields whose value a "
+                                                 "survey log set, with the log, its dates and the fit")
     _files: SiteFiles = PrivateAttr(default_factory=FolderFiles)
     _file: str | None = PrivateAttr(default=None)
 
@@ -95,6 +124,21 @@ class SiteSpec(Section):
     @property
     def file(self) -> str | None:
         return self._file
+
+
+def measured_fields(spec: SiteSpec) -> dict[str, MeasuredField]:
+    """Fields a survey set, by path (``source[<id>].<field>``, ``spot.<field>``): their provenance record.
+
+    Records naming a source id the site no longer has are left out; any field not returned is assumed.
+    Front ends mark each input measured or assumed with this.
+    """
+    ids = {s.id for s in spec.source}
+    out: dict[str, MeasuredField] = {}
+    for record in spec.measured or []:
+        if record.path.startswith("source[") and record.path[7:].split("]", 1)[0] not in ids:
+            continue
+        out[record.path] = record
+    return out
 
 
 def _rebuild_sources() -> None:
