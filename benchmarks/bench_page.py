@@ -24,7 +24,6 @@ import argparse
 import json
 import os
 import shutil
-import socket
 import statistics
 import subprocess
 import sys
@@ -34,6 +33,7 @@ import urllib.request
 from collections.abc import Callable
 from pathlib import Path
 
+from bench_load import free_port  # the benchmark beside this one
 from playwright.sync_api import Page, sync_playwright
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -42,12 +42,6 @@ CHROMIUM = "/usr/bin/chromium"
 HOST = "127.0.0.1"
 QUIET_S = 0.4
 UPDATE = "/_dash-update-component"
-
-
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind((HOST, 0))
-        return int(s.getsockname()[1])
 
 
 def start_server(paths: list[Path]) -> tuple[subprocess.Popen, str]:
